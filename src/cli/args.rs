@@ -1,0 +1,229 @@
+//! Raw command-line arguments (clap derive), exactly the surface of `../shared/spec/cli.md`.
+//! Nothing here does work: [`super::config`] validates these into typed settings first.
+
+use std::path::PathBuf;
+
+use clap::{Args, Parser, Subcommand, ValueEnum};
+
+#[derive(Debug, Parser)]
+#[command(
+    name = "saddle",
+    version,
+    about = "Linear rational-expectations models: check, solve, impulse responses, moments",
+    long_about = "saddle reads a model written in its own small language, finds its steady state, \
+linearizes it with exact derivatives, solves it with a generalized Schur (QZ) decomposition and \
+reports whether a unique stable solution exists, and why not if it does not.\n\n\
+Results are conditional on the model and its calibration.",
+    after_help = "Example:\n  saddle irf models/harbour.saddle --shock e_rate --horizon 12"
+)]
+pub struct Cli {
+    #[command(subcommand)]
+    pub command: Command,
+}
+
+#[derive(Debug, Subcommand)]
+pub enum Command {
+    /// Parse and validate a model; print a summary.
+    #[command(after_help = "Example:\n  saddle check models/harbour.saddle --format json")]
+    Check(CheckArgs),
+    /// Steady state, linearization, QZ, counting and rank conditions, solution matrices.
+    #[command(after_help = "Example:\n  saddle solve models/harbour.saddle --set phi_pi=0.9")]
+    Solve(SolveArgs),
+    /// Impulse responses to each innovation.
+    #[command(
+        after_help = "Example:\n  saddle irf models/harbour.saddle --shock e_rate --format csv"
+    )]
+    Irf(IrfArgs),
+    /// Standard deviations, correlations, autocorrelations, variance decompositions.
+    #[command(after_help = "Example:\n  saddle moments models/harbour.saddle --horizons 1,4,8,40")]
+    Moments(MomentsArgs),
+    /// Simulated paths from seeded random innovations.
+    #[command(
+        after_help = "Example:\n  saddle simulate models/harbour.saddle --seed 7 --periods 200 --format csv"
+    )]
+    Simulate(SimulateArgs),
+    /// One self-contained HTML page with the summary, solution, plots and moments.
+    #[command(after_help = "Example:\n  saddle report models/harbour.saddle -o harbour.html")]
+    Report(ReportArgs),
+    /// Solution status over a grid of parameter values.
+    #[command(
+        after_help = "Example:\n  saddle sweep models/harbour.saddle --vary phi_pi=0:3:61 --vary phi_y=0:1:41 --plot map.svg"
+    )]
+    Sweep(SweepArgs),
+}
+
+#[derive(Debug, Clone, Copy, PartialEq, Eq, ValueEnum)]
+pub enum CheckFormat {
+    Text,
+    Json,
+    /// The model printed back in canonical form.
+    Canonical,
+}
+
+#[derive(Debug, Clone, Copy, PartialEq, Eq, ValueEnum)]
+pub enum Format {
+    Text,
+    Json,
+    Csv,
+}
+
+#[derive(Debug, Clone, Copy, PartialEq, Eq, ValueEnum)]
+pub enum ImpulseSize {
+    /// One standard deviation of the innovation.
+    OneSd,
+    /// A unit impulse.
+    Unit,
+}
+
+#[derive(Debug, Clone, Copy, PartialEq, Eq, ValueEnum)]
+pub enum Layout {
+    /// One row per (period, variable).
+    Tidy,
+    /// One row per period, one column per variable.
+    Wide,
+}
+
+#[derive(Debug, Args)]
+pub struct OutputArgs {
+    /// Write the output to PATH instead of stdout (atomically: never left half-written).
+    #[arg(short = 'o', long = "output", value_name = "PATH")]
+    pub output: Option<PathBuf>,
+}
+
+/// Options shared by every command that solves the model.
+#[derive(Debug, Args)]
+pub struct SolveOptionArgs {
+    /// Override a parameter's value (repeatable); derived parameters are recomputed.
+    #[arg(long = "set", value_name = "NAME=VALUE")]
+    pub set: Vec<String>,
+    /// Discount factor B: the stable-root threshold becomes 1/sqrt(B).
+    #[arg(long, value_name = "B", conflicts_with = "threshold")]
+    pub discount: Option<f64>,
+    /// Stable-root threshold X (overrides the file's options).
+    #[arg(long, value_name = "X")]
+    pub threshold: Option<f64>,
+    /// Count roots on the boundary of the threshold as unstable (default: stable).
+    #[arg(long)]
+    pub boundary_unstable: bool,
+    /// Print the time of each phase to stderr.
+    #[arg(long)]
+    pub timings: bool,
+}
+
+#[derive(Debug, Args)]
+pub struct CheckArgs {
+    /// Model file (.saddle).
+    pub file: PathBuf,
+    #[arg(long, value_enum, default_value_t = CheckFormat::Text)]
+    pub format: CheckFormat,
+    #[command(flatten)]
+    pub out: OutputArgs,
+}
+
+#[derive(Debug, Args)]
+pub struct SolveArgs {
+    pub file: PathBuf,
+    #[command(flatten)]
+    pub solve: SolveOptionArgs,
+    #[arg(long, value_enum, default_value_t = Format::Text)]
+    pub format: Format,
+    #[command(flatten)]
+    pub out: OutputArgs,
+}
+
+#[derive(Debug, Args)]
+pub struct IrfArgs {
+    pub file: PathBuf,
+    #[command(flatten)]
+    pub solve: SolveOptionArgs,
+    /// Innovation to shock (repeatable; default: every innovation).
+    #[arg(long, value_name = "NAME")]
+    pub shock: Vec<String>,
+    #[arg(long, value_enum, default_value_t = ImpulseSize::OneSd)]
+    pub size: ImpulseSize,
+    /// Periods after the impulse (default 40, or the file's options).
+    #[arg(long, value_name = "H")]
+    pub horizon: Option<u32>,
+    /// Also draw the responses as an SVG grid of panels.
+    #[arg(long, value_name = "PATH.svg")]
+    pub plot: Option<PathBuf>,
+    #[arg(long, value_enum, default_value_t = Format::Text)]
+    pub format: Format,
+    #[command(flatten)]
+    pub out: OutputArgs,
+}
+
+#[derive(Debug, Args)]
+pub struct MomentsArgs {
+    pub file: PathBuf,
+    #[command(flatten)]
+    pub solve: SolveOptionArgs,
+    /// Autocorrelations up to this lag.
+    #[arg(long, value_name = "N", default_value_t = 5)]
+    pub lags: u32,
+    /// Forecast-error variance decomposition at these horizons (comma-separated).
+    #[arg(long, value_name = "H,H,...", value_delimiter = ',')]
+    pub horizons: Vec<u32>,
+    #[arg(long, value_enum, default_value_t = Format::Text)]
+    pub format: Format,
+    #[command(flatten)]
+    pub out: OutputArgs,
+}
+
+#[derive(Debug, Args)]
+pub struct SimulateArgs {
+    pub file: PathBuf,
+    #[command(flatten)]
+    pub solve: SolveOptionArgs,
+    /// Seed of the random generator (same seed, same paths, on every platform).
+    #[arg(long, value_name = "N", default_value_t = 1)]
+    pub seed: u64,
+    /// Periods kept after the burn-in.
+    #[arg(long, value_name = "N", default_value_t = 200)]
+    pub periods: u64,
+    /// Periods simulated and dropped before those kept.
+    #[arg(long = "burn-in", value_name = "N", default_value_t = 100)]
+    pub burn_in: u64,
+    /// Report levels (steady state added back) instead of deviations.
+    #[arg(long)]
+    pub levels: bool,
+    #[arg(long, value_enum, default_value_t = Layout::Wide)]
+    pub layout: Layout,
+    /// Also draw the simulated paths as an SVG grid of panels.
+    #[arg(long, value_name = "PATH.svg")]
+    pub plot: Option<PathBuf>,
+    #[arg(long, value_enum, default_value_t = Format::Csv)]
+    pub format: Format,
+    #[command(flatten)]
+    pub out: OutputArgs,
+}
+
+#[derive(Debug, Args)]
+pub struct ReportArgs {
+    pub file: PathBuf,
+    #[command(flatten)]
+    pub solve: SolveOptionArgs,
+    /// Impulse-response horizon in the report.
+    #[arg(long, value_name = "H")]
+    pub horizon: Option<u32>,
+    /// Where to write the HTML page.
+    #[arg(short = 'o', long = "output", value_name = "PATH.html")]
+    pub output: PathBuf,
+}
+
+#[derive(Debug, Args)]
+pub struct SweepArgs {
+    pub file: PathBuf,
+    #[command(flatten)]
+    pub solve: SolveOptionArgs,
+    /// Parameter and grid: NAME=LO:HI:N (N evenly spaced values, inclusive); once or twice.
+    #[arg(long, value_name = "NAME=LO:HI:N", required = true)]
+    pub vary: Vec<String>,
+    /// Draw the grid coloured by status (SVG).
+    #[arg(long, value_name = "PATH.svg")]
+    pub plot: Option<PathBuf>,
+    #[arg(long, value_enum, default_value_t = Format::Csv)]
+    pub format: Format,
+    #[command(flatten)]
+    pub out: OutputArgs,
+}

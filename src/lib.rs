@@ -1,0 +1,29 @@
+//! saddle: linear rational-expectations models from text to solution.
+//!
+//! The modules follow the data's path and never reach back up it:
+//!
+//! ```text
+//! language (text -> syntax tree + diagnostics)
+//!   -> model (checked model: resolved expression trees, calibrated parameters)
+//!   -> symbolic (exact derivatives, compiled evaluation)
+//!   -> steady (deterministic steady state)
+//!   -> linear (first-order system in leads, current values, lags, innovations)
+//!   -> canonical (pencil A E z' = B z + C e, auxiliary leads and lags)
+//!   -> qz (generalized Schur decomposition with reordering)
+//!   -> solution (counting and rank conditions, decision rule)
+//!   -> analysis (impulse responses, moments, simulation, sweeps)
+//!   -> output (text, JSON, CSV, SVG, HTML)
+//! ```
+//!
+//! See `docs/architecture.md` for the code map and the invariants.
+
+pub mod analysis;
+pub mod canonical;
+pub mod language;
+pub mod linear;
+pub mod model;
+pub mod output;
+pub mod qz;
+pub mod solution;
+pub mod steady;
+pub mod symbolic;

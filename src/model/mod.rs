@@ -1,0 +1,169 @@
+//! The checked model: the front end's product and the numerics' only input.
+//!
+//! A [`Model`] is a model file after parsing, name resolution and every check of spec §5. Names
+//! have become indices into the declaration lists, time indices have become integer offsets, and
+//! parameters carry their evaluated values. It holds no source text and no spans: numerics never
+//! see source text. The front end ([`check`]) builds it from the syntax tree; [`Model::with_overrides`]
+//! re-evaluates it for `--set NAME=VALUE`.
+
+pub mod check;
+pub mod expr;
+pub mod print;
+
+use nalgebra::DMatrix;
+
+pub use expr::{BinaryOp, Expr, Function, Function2, Leaves, MAX_EXPR_DEPTH};
+
+/// An endogenous variable.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Endogenous {
+    pub name: String,
+    pub label: Option<String>,
+    /// Linearized in logs (deviations are proportional).
+    pub log: bool,
+    /// Largest lead with which the variable appears in the equations (0 if none).
+    pub max_lead: u32,
+    /// Largest lag with which the variable appears in the equations (0 if none).
+    pub max_lag: u32,
+}
+
+/// An exogenous innovation (i.i.d., zero mean).
+#[derive(Debug, Clone, PartialEq)]
+pub struct Exogenous {
+    pub name: String,
+    pub label: Option<String>,
+    /// Largest lag with which the innovation appears (0 if only at `t`).
+    pub max_lag: u32,
+}
+
+/// A parameter, its defining expression (over other parameters) and its value at the calibration.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Parameter {
+    pub name: String,
+    pub label: Option<String>,
+    pub expr: Expr,
+    pub value: f64,
+}
+
+/// One equation, `lhs = rhs` (a bare expression in the file has `rhs = 0`).
+#[derive(Debug, Clone, PartialEq)]
+pub struct Equation {
+    pub label: Option<String>,
+    pub lhs: Expr,
+    pub rhs: Expr,
+}
+
+/// How a covariance item was written.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum CovarianceKind {
+    /// `sd(e) = expr`
+    Sd,
+    /// `var(e) = expr`
+    Var,
+    /// `corr(e1, e2) = expr`
+    Corr,
+}
+
+/// One item of the `covariance` section.
+#[derive(Debug, Clone, PartialEq)]
+pub struct CovarianceItem {
+    pub kind: CovarianceKind,
+    /// Innovation indices; for `Sd` and `Var` both are the same.
+    pub shocks: (usize, usize),
+    pub expr: Expr,
+}
+
+/// Whether a `steady` item fixes a value or only starts the search there.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum SteadyKind {
+    /// `name = expr`: the steady-state value is known (and checked against the equations).
+    Known,
+    /// `guess name = expr`: a starting point for the Newton solve.
+    Guess,
+}
+
+/// One item of the `steady` section. `expr` may use parameters and `Expr::SteadyState` of other
+/// variables that have `Known` values.
+#[derive(Debug, Clone, PartialEq)]
+pub struct SteadyItem {
+    pub kind: SteadyKind,
+    pub variable: usize,
+    pub expr: Expr,
+}
+
+/// The `options` section, as expressions of parameters and as evaluated values.
+#[derive(Debug, Clone, PartialEq, Default)]
+pub struct ModelOptions {
+    pub discount: Option<Expr>,
+    pub threshold: Option<Expr>,
+    pub horizon: Option<u32>,
+}
+
+/// A model that passed every check of spec §5.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Model {
+    pub title: Option<String>,
+    /// Declaration order.
+    pub endogenous: Vec<Endogenous>,
+    /// Declaration order.
+    pub exogenous: Vec<Exogenous>,
+    /// File order (values are evaluated in `parameter_order`).
+    pub parameters: Vec<Parameter>,
+    /// A topological order of `parameters`: each depends only on those before it.
+    pub parameter_order: Vec<usize>,
+    /// File order; as many as `endogenous`.
+    pub equations: Vec<Equation>,
+    pub covariance_items: Vec<CovarianceItem>,
+    /// Innovation covariance at the calibration (symmetric; built from `covariance_items`).
+    pub covariance: DMatrix<f64>,
+    /// Per innovation: whether the file gave its sd or var (else it defaulted to sd 1).
+    pub sd_given: Vec<bool>,
+    /// A dependency order for the `Known` steady items is computed where they are used.
+    pub steady: Vec<SteadyItem>,
+    pub options: ModelOptions,
+}
+
+/// Parameter values as [`Leaves`] for evaluating parameter-only expressions. Asking for a
+/// variable or innovation is a logic error the checker rules out; it returns NaN.
+pub struct ParameterValues<'a>(pub &'a [Parameter]);
+
+impl Leaves for ParameterValues<'_> {
+    fn parameter(&self, index: usize) -> f64 {
+        self.0.get(index).map_or(f64::NAN, |p| p.value)
+    }
+    fn variable(&self, _: usize, _: i32) -> f64 {
+        f64::NAN
+    }
+    fn innovation(&self, _: usize, _: i32) -> f64 {
+        f64::NAN
+    }
+    fn steady_state(&self, _: usize) -> f64 {
+        f64::NAN
+    }
+}
+
+impl Model {
+    pub fn variable_names(&self) -> Vec<String> {
+        self.endogenous.iter().map(|v| v.name.clone()).collect()
+    }
+    pub fn shock_names(&self) -> Vec<String> {
+        self.exogenous.iter().map(|v| v.name.clone()).collect()
+    }
+    pub fn parameter_index(&self, name: &str) -> Option<usize> {
+        self.parameters.iter().position(|p| p.name == name)
+    }
+    pub fn shock_index(&self, name: &str) -> Option<usize> {
+        self.exogenous.iter().position(|p| p.name == name)
+    }
+    /// Name of equation `i` for messages: its label, or `equation i+1`.
+    pub fn equation_name(&self, i: usize) -> String {
+        match self.equations.get(i).and_then(|e| e.label.as_deref()) {
+            Some(l) => l.to_string(),
+            None => format!("equation {}", i + 1),
+        }
+    }
+    /// Evaluates a parameter-only expression at the current calibration.
+    pub fn eval_parameters(&self, expr: &Expr) -> f64 {
+        expr.eval(&ParameterValues(&self.parameters))
+    }
+}

@@ -1,0 +1,1 @@
+//! Canonical pretty-printer: [`super::Model`] -> model-file text.

@@ -1,0 +1,14 @@
+//! Everything a person or a script reads: text tables, JSON, CSV, SVG charts and the HTML report.
+//! Each submodule renders one command's result from library values; nothing here computes
+//! numerics or touches the file system.
+
+pub mod csv;
+pub mod irf;
+pub mod moments;
+pub mod report;
+pub mod simulate;
+pub mod solve;
+pub mod summary;
+pub mod svg;
+pub mod sweep;
+pub mod table;
