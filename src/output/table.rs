@@ -119,8 +119,9 @@ mod tests {
         t.row(vec!["inflation".into(), number(12.25, 3)]);
         let s = t.render();
         let lines: Vec<&str> = s.lines().collect();
-        assert_eq!(lines[0], "name       value");
-        assert_eq!(lines[2], "gap       -0.500");
+        assert_eq!(lines[0], "name        value");
+        assert_eq!(lines[1], "---------  ------");
+        assert_eq!(lines[2], "gap        -0.500");
         assert_eq!(lines[3], "inflation  12.250");
         assert!(s.lines().all(|l| !l.ends_with(' ')));
     }
@@ -129,7 +130,8 @@ mod tests {
     fn numbers_format_without_negative_zero() {
         assert_eq!(number(-0.00001, 3), "-1.000e-5");
         assert_eq!(number(-1e-9 * 0.0, 3), "0.000");
-        assert_eq!(number(-0.0004, 2), "-4.00e-4");
+        assert_eq!(number(-0.00004, 2), "-4.00e-5");
+        assert_eq!(number(-0.0004, 2), "0.00");
         assert_eq!(number(1e8, 2), "1.00e8");
     }
 }
