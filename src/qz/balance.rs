@@ -24,7 +24,7 @@ pub(crate) fn scaling_exponent<E: Entry>(m: &[E]) -> i32 {
         return 0;
     }
     let e = max.log2().floor() as i32 + 1;
-    if e > HIGH_EXP || e < -LOW_EXP {
+    if !(-LOW_EXP..=HIGH_EXP).contains(&e) {
         e
     } else {
         0
@@ -42,26 +42,6 @@ pub(crate) fn scale_by_power_of_two<E: Entry>(m: &mut [E], e: i32) {
             *x = x.scale(f);
         }
         left -= step;
-    }
-}
-
-#[cfg(test)]
-mod tests {
-    use super::*;
-
-    #[test]
-    fn exponent_only_for_extremes() {
-        assert_eq!(scaling_exponent(&[1e8f64, -1e-8]), 0);
-        assert_eq!(scaling_exponent(&[0.0f64; 4]), 0);
-        let e = scaling_exponent(&[1e300f64, 3.0]);
-        assert!(e > 0);
-        let mut v = [1e300f64, 3.0];
-        scale_by_power_of_two(&mut v, -e);
-        assert!(v[0] >= 0.5 && v[0] < 1.0);
-        let e = scaling_exponent(&[4e-320f64]);
-        let mut v = [4e-320f64];
-        scale_by_power_of_two(&mut v, -e);
-        assert!(v[0] >= 0.5 && v[0] < 1.0, "{}", v[0]);
     }
 }
 
@@ -104,5 +84,25 @@ pub fn scale_rows(m: &mut nalgebra::DMatrix<f64>, exponents: &[i32]) {
         for (j, x) in row.into_iter().enumerate() {
             m[(i, j)] = x;
         }
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn exponent_only_for_extremes() {
+        assert_eq!(scaling_exponent(&[1e8f64, -1e-8]), 0);
+        assert_eq!(scaling_exponent(&[0.0f64; 4]), 0);
+        let e = scaling_exponent(&[1e300f64, 3.0]);
+        assert!(e > 0);
+        let mut v = [1e300f64, 3.0];
+        scale_by_power_of_two(&mut v, -e);
+        assert!(v[0] >= 0.5 && v[0] < 1.0);
+        let e = scaling_exponent(&[4e-320f64]);
+        let mut v = [4e-320f64];
+        scale_by_power_of_two(&mut v, -e);
+        assert!(v[0] >= 0.5 && v[0] < 1.0, "{}", v[0]);
     }
 }
