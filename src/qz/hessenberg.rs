@@ -17,6 +17,32 @@ use super::rotation::{rotate_columns, rotate_rows, Entry, Rotation};
 /// overwrites `q`, `z` (which must hold the identity or any unitary matrices on entry) with
 /// `q Q`, `z Z`.
 pub(crate) fn reduce<E: Entry>(a: &mut [E], b: &mut [E], q: &mut [E], z: &mut [E], n: usize) {
+    #[cfg(target_arch = "x86_64")]
+    {
+        if std::arch::is_x86_feature_detected!("avx2") && std::arch::is_x86_feature_detected!("fma")
+        {
+            // SAFETY: the CPU supports the features the clone is compiled for.
+            unsafe { reduce_avx2(a, b, q, z, n) };
+            return;
+        }
+    }
+    reduce_portable(a, b, q, z, n);
+}
+
+/// [`reduce`] compiled for AVX2/FMA: the portable loops (inlined) are auto-vectorised with
+/// 256-bit registers, which matters for the real (`f64`) kernels that have no hand-written
+/// SIMD version.
+///
+/// # Safety
+/// The CPU must support AVX2 and FMA.
+#[cfg(target_arch = "x86_64")]
+#[target_feature(enable = "avx2,fma")]
+unsafe fn reduce_avx2<E: Entry>(a: &mut [E], b: &mut [E], q: &mut [E], z: &mut [E], n: usize) {
+    householder_triangularize(a, b, q, n);
+    givens_hessenberg(a, b, q, z, n);
+}
+
+fn reduce_portable<E: Entry>(a: &mut [E], b: &mut [E], q: &mut [E], z: &mut [E], n: usize) {
     householder_triangularize(a, b, q, n);
     givens_hessenberg(a, b, q, z, n);
 }
@@ -25,6 +51,7 @@ pub(crate) fn reduce<E: Entry>(a: &mut [E], b: &mut [E], q: &mut [E], z: &mut [E
 /// the diagonal), `a <- H_{n-1}...H_1 a` and `q <- q H_1...H_{n-1}`. Each reflector is the
 /// Hermitian `H = I - tau v v^H` with real `tau = 1 / (v^H x)` mapping the column `x` to
 /// `-(x_0/|x_0|) ||x|| e_1`.
+#[inline(always)]
 fn householder_triangularize<E: Entry>(a: &mut [E], b: &mut [E], q: &mut [E], n: usize) {
     let mut v: Vec<E> = vec![E::zero(); n];
     let mut w: Vec<E> = vec![E::zero(); n];
@@ -91,6 +118,7 @@ fn householder_triangularize<E: Entry>(a: &mut [E], b: &mut [E], q: &mut [E], n:
 /// Givens stage on an upper-triangular `b`: overwrites `a` with upper Hessenberg form (exact
 /// zeros below the subdiagonal), keeps `b` upper triangular (exact zeros below the diagonal),
 /// and accumulates the row rotations into `q` and the column rotations into `z`.
+#[inline(always)]
 fn givens_hessenberg<E: Entry>(a: &mut [E], b: &mut [E], q: &mut [E], z: &mut [E], n: usize) {
     if n < 3 {
         return;
