@@ -278,10 +278,12 @@ pub(crate) fn frobenius<E: Entry>(m: &[E]) -> f64 {
     scale * sum.sqrt()
 }
 
-/// Runs the QZ iteration on the Hessenberg-triangular pair `(h, t)` (n x n, column-major).
+/// Runs the QZ iteration on the Hessenberg-triangular pair `(h, t)` (n x n, column-major) whose
+/// active block is `ilo..=ihi` (outside it `h` is already upper triangular).
 /// Overwrites `h` with the upper-triangular S (exact zeros below the diagonal), `t` with T
 /// (upper triangular, real non-negative diagonal), and post-multiplies the accumulated `q`, `z`
-/// by the rotations used, so `Q^H A Z = S`, `Q^H B Z = T` continue to hold.
+/// by the rotations used, so `Q^H A Z = S`, `Q^H B Z = T` continue to hold. The tolerances use
+/// the Frobenius norms of the active blocks (which are at most ||A||_F, ||B||_F).
 ///
 /// Errors: `NoConvergence { index }` when more than `max_sweeps_per_eigenvalue * n` sweeps are
 /// needed; `index` is the bottom of the block still active.
@@ -291,13 +293,21 @@ pub(crate) fn qz_iterate(
     q: &mut [C64],
     z: &mut [C64],
     n: usize,
+    ilo: usize,
+    ihi: usize,
     params: &QzParams,
 ) -> Result<(), QzError> {
     if n == 0 {
         return Ok(());
     }
-    let anorm = frobenius(h);
-    let bnorm = frobenius(t);
+    let block_norm = |m: &[C64]| {
+        let cols: Vec<f64> = (ilo..=ihi)
+            .map(|j| frobenius(&m[j * n + ilo..j * n + ihi + 1]))
+            .collect();
+        frobenius(&cols)
+    };
+    let anorm = block_norm(h);
+    let bnorm = block_norm(t);
     let mut w = Work {
         h,
         t,
@@ -309,11 +319,16 @@ pub(crate) fn qz_iterate(
         ascale: 1.0 / SAFE_MIN.max(anorm),
         bscale: 1.0 / SAFE_MIN.max(bnorm),
     };
-    let ilo = 0usize;
-    let mut ilast = n - 1;
+    // Eigenvalues isolated by the permutation: only make beta real non-negative.
+    for j in (0..ilo).chain(ihi + 1..n) {
+        w.normalize_beta(j);
+    }
+    let mut ilast = ihi;
     let mut iiter = 0usize;
     let mut eshift = C64::new(0.0, 0.0);
-    let maxit = params.max_sweeps_per_eigenvalue.saturating_mul(n);
+    let maxit = params
+        .max_sweeps_per_eigenvalue
+        .saturating_mul(ihi - ilo + 1);
     let mut sweeps = 0usize;
     loop {
         let action = if ilast == ilo {
