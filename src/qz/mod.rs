@@ -13,7 +13,8 @@
 //!
 //! Pipeline (Moler and Stewart 1973; Golub and Van Loan, Matrix Computations, 4th ed., §7.7):
 //! 1. [`balance`]: a global power-of-two scaling of A and of B when their entries are extreme
-//!    (exact, undone at the end);
+//!    (exact, undone at the end), and permutations isolating eigenvalues exposed by exact zeros
+//!    (folded into Q and Z);
 //! 2. [`hessenberg`]: Householder QR of B, then Givens rotations bring A to upper Hessenberg form
 //!    keeping B triangular (in real arithmetic for real input);
 //! 3. [`iteration`]: complex single-shift implicit QZ sweeps with element-wise deflation, exact
@@ -66,6 +67,10 @@ pub struct QzParams {
     /// Scale A and B by powers of two when their largest entries are outside [2^-200, 2^200]
     /// (exact; undone afterwards). Default true.
     pub scale_extremes: bool,
+    /// Permute rows and columns first to isolate eigenvalues exposed by exact zeros (rows or
+    /// columns with a single nonzero in both matrices), which are then exact and skip the
+    /// iteration. The permutations are folded into Q and Z. Default true.
+    pub permute: bool,
 }
 
 impl Default for QzParams {
@@ -75,6 +80,7 @@ impl Default for QzParams {
             exceptional_shift_period: 10,
             swap_test_factor: 20.0,
             scale_extremes: true,
+            permute: true,
         }
     }
 }
@@ -219,13 +225,30 @@ impl GeneralizedSchur {
         let mut qr =
             DMatrix::<E>::from_fn(n, n, |i, j| E::from_real(if i == j { 1.0 } else { 0.0 }));
         let mut zr = qr.clone();
-        hessenberg::reduce(
-            a.as_mut_slice(),
-            b.as_mut_slice(),
-            qr.as_mut_slice(),
-            zr.as_mut_slice(),
-            n,
-        );
+        let (ilo, ihi) = if n == 0 {
+            (0, 0)
+        } else if params.permute {
+            balance::permute(
+                a.as_mut_slice(),
+                b.as_mut_slice(),
+                qr.as_mut_slice(),
+                zr.as_mut_slice(),
+                n,
+            )
+        } else {
+            (0, n - 1)
+        };
+        if n > 0 {
+            hessenberg::reduce(
+                a.as_mut_slice(),
+                b.as_mut_slice(),
+                qr.as_mut_slice(),
+                zr.as_mut_slice(),
+                n,
+                ilo,
+                ihi,
+            );
+        }
         let mut s = to_complex(&a);
         let mut t = to_complex(&b);
         let mut q = to_complex(&qr);
@@ -237,6 +260,8 @@ impl GeneralizedSchur {
             q.as_mut_slice(),
             z.as_mut_slice(),
             n,
+            ilo,
+            ihi,
             params,
         )?;
         balance::scale_by_power_of_two(s.as_mut_slice(), ea);
