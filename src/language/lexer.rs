@@ -527,8 +527,12 @@ impl<'a> Lexer<'a> {
             let text = &self.source[span.start..span.end];
             // A section keyword at the start of a line while a bracket is open: the bracket was
             // almost surely left unclosed. Say so and start the section.
-            if raw == Raw::Word && line_start && !self.brackets.is_empty() {
-                if section_of(text).is_some() {
+            if raw == Raw::Word
+                && line_start
+                && !self.brackets.is_empty()
+                && section_of(text).is_some()
+            {
+                {
                     let open = self.brackets[self.brackets.len() - 1];
                     if !self.skipping {
                         self.unclosed(open);

@@ -72,7 +72,8 @@ pub fn did_you_mean<'c>(name: &str, candidates: impl Iterator<Item = &'c str>) -
             continue;
         }
         let d = edit_distance(name, c);
-        if d <= limit && best.is_none_or(|(bd, _)| d < bd) {
+        // At least one character must survive: `z` is no typo of `k`.
+        if d <= limit && d < n && best.is_none_or(|(bd, _)| d < bd) {
             best = Some((d, c));
         }
     }
@@ -88,8 +89,8 @@ fn edit_distance(a: &str, b: &str) -> usize {
     for i in 0..=a.len() {
         d[i * w] = i;
     }
-    for j in 0..=b.len() {
-        d[j] = j;
+    for (j, cell) in d.iter_mut().enumerate().take(w) {
+        *cell = j;
     }
     for i in 1..=a.len() {
         for j in 1..=b.len() {
@@ -952,7 +953,7 @@ impl<'a> Checker<'a> {
     }
 
     fn names_for_print(&self) -> OwnedNames {
-        (OwnedNames {
+        OwnedNames {
             parameters: self
                 .parameters
                 .iter()
@@ -964,7 +965,7 @@ impl<'a> Checker<'a> {
                 .map(|p| p.name.text.clone())
                 .collect(),
             exogenous: self.exogenous.iter().map(|p| p.name.text.clone()).collect(),
-        })
+        }
     }
 
     fn check_equations(&mut self) -> Vec<Equation> {
@@ -1166,9 +1167,10 @@ impl<'a> Checker<'a> {
         }
         let values: Vec<f64> = parameters.iter().map(|p| p.value).collect();
         let parameters_ok = values.iter().all(|v| v.is_finite());
-        if ok && parameters_ok {
+        if parameters_ok {
             match calibrate::build_covariance(n, &items, &values) {
-                Ok((sigma, given)) => return (items, sigma, given),
+                Ok((sigma, given)) if ok => return (items, sigma, given),
+                Ok(_) => {}
                 Err(problems) => {
                     for (k, p) in problems {
                         let mut d = Diagnostic::error(
@@ -1187,7 +1189,7 @@ impl<'a> Checker<'a> {
                                     .with_help("give each sd (or var) and each correlation once");
                             }
                             CovarianceProblem::NotPositiveSemidefinite(_) => {
-                                d.message = format!("the covariance items {p}");
+                                d.message = p.to_string();
                                 d.label = "among these correlations".into();
                                 d = d.with_help(
                                     "some correlations contradict each other (for example a and b \
@@ -1523,7 +1525,8 @@ fn describe_value(v: f64) -> &'static str {
 
 fn number_or_word(v: f64) -> String {
     if v.is_finite() {
-        format!("{v}")
+        let s = format!("{v:.6}");
+        s.trim_end_matches('0').trim_end_matches('.').to_string()
     } else {
         describe_value(v).to_string()
     }
