@@ -300,6 +300,17 @@ impl Tok<'_> {
     }
 }
 
+/// What the last token of an open statement says about the line rule.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+enum Last {
+    /// An operator, `=`, `,`, `:` or an opening bracket: the statement continues.
+    Continues,
+    /// Anything else: a line end ends the statement.
+    Ends,
+    /// A [`Tok::Invalid`]: the rest of the statement is being skipped.
+    Invalid,
+}
+
 /// The lexer never hands an error to the parser (problems go to [`Lexer::diagnostics`]); this
 /// type exists because the parser's interface asks for one.
 #[derive(Debug, Clone, PartialEq, Eq, Default)]
@@ -319,7 +330,7 @@ pub struct Lexer<'a> {
     /// Tokens decided but not yet handed out.
     queue: std::collections::VecDeque<(usize, Tok<'a>, usize)>,
     /// The last token handed out (or queued) in the current statement; `None` at a statement start.
-    last: Option<Tok<'a>>,
+    last: Option<Last>,
     /// Tokens in the current statement.
     statement_tokens: usize,
     /// The rest of the statement is being skipped after an error that makes it meaningless.
@@ -389,7 +400,11 @@ impl<'a> Lexer<'a> {
             self.invalidate(start);
             return;
         }
-        self.last = Some(tok.clone());
+        self.last = Some(if tok.continues_line() {
+            Last::Continues
+        } else {
+            Last::Ends
+        });
         self.queue.push_back((start, tok, end));
     }
 
@@ -399,7 +414,7 @@ impl<'a> Lexer<'a> {
             self.queue.push_back((at, Tok::Item(self.section), at));
         }
         self.queue.push_back((at, Tok::Invalid, at));
-        self.last = Some(Tok::Invalid);
+        self.last = Some(Last::Invalid);
         self.skipping = true;
     }
 
@@ -516,7 +531,7 @@ impl<'a> Lexer<'a> {
                     || if self.skipping {
                         self.skip_continues
                     } else {
-                        self.last.as_ref().is_some_and(Tok::continues_line)
+                        self.last == Some(Last::Continues)
                     };
                 if !continues {
                     self.end_statement(span.start, 1);
@@ -625,9 +640,9 @@ impl<'a> Lexer<'a> {
                 "add the missing `{closer}`; inside brackets a statement continues onto the next line"
             )),
         );
-        if self.last.is_some() && self.last != Some(Tok::Invalid) {
+        if self.last.is_some() && self.last != Some(Last::Invalid) {
             self.queue.push_back((open.start, Tok::Invalid, open.start));
-            self.last = Some(Tok::Invalid);
+            self.last = Some(Last::Invalid);
         }
     }
 }

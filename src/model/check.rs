@@ -40,7 +40,7 @@ pub fn check_source(source: &str) -> Result<Model, Vec<Diagnostic>> {
 }
 
 /// Checks a parsed file: the checked model, or every diagnostic (sorted by position).
-pub fn check_file(file: &ast::File) -> Result<Model, Vec<Diagnostic>> {
+pub fn check_file(file: &ast::File<'_>) -> Result<Model, Vec<Diagnostic>> {
     let mut c = Checker::default();
     let model = c.run(file);
     if c.diags.iter().any(Diagnostic::is_error) {
@@ -165,13 +165,13 @@ struct Checker<'a> {
     diags: Vec<Diagnostic>,
     names: HashMap<&'a str, (Symbol, Span)>,
     title: Option<(&'a ast::StringLit, Span)>,
-    endogenous: Vec<&'a ast::EndogenousDecl>,
-    exogenous: Vec<&'a ast::ExogenousDecl>,
-    parameters: Vec<&'a ast::ParameterDecl>,
-    equations: Vec<&'a ast::EquationDecl>,
-    covariance: Vec<&'a ast::CovarianceDecl>,
-    steady: Vec<&'a ast::SteadyDecl>,
-    options: Vec<&'a ast::OptionDecl>,
+    endogenous: Vec<&'a ast::EndogenousDecl<'a>>,
+    exogenous: Vec<&'a ast::ExogenousDecl<'a>>,
+    parameters: Vec<&'a ast::ParameterDecl<'a>>,
+    equations: Vec<&'a ast::EquationDecl<'a>>,
+    covariance: Vec<&'a ast::CovarianceDecl<'a>>,
+    steady: Vec<&'a ast::SteadyDecl<'a>>,
+    options: Vec<&'a ast::OptionDecl<'a>>,
     endogenous_header: Option<Span>,
     equations_header: Option<Span>,
     /// Per endogenous variable: used in an equation at some date; largest lead; largest lag.
@@ -188,7 +188,7 @@ impl<'a> Checker<'a> {
         self.diags.push(d);
     }
 
-    fn run(&mut self, file: &'a ast::File) -> Option<Model> {
+    fn run(&mut self, file: &'a ast::File<'a>) -> Option<Model> {
         self.collect(file);
         self.declare();
         let n_endo = self.endogenous.len();
@@ -215,7 +215,7 @@ impl<'a> Checker<'a> {
                 .iter()
                 .enumerate()
                 .map(|(i, d)| Endogenous {
-                    name: d.name.text.clone(),
+                    name: d.name.text.to_string(),
                     label: d.label.as_ref().map(|l| l.value.clone()),
                     log: d.log.is_some(),
                     max_lead: self.max_lead[i],
@@ -227,7 +227,7 @@ impl<'a> Checker<'a> {
                 .iter()
                 .enumerate()
                 .map(|(i, d)| Exogenous {
-                    name: d.name.text.clone(),
+                    name: d.name.text.to_string(),
                     label: d.label.as_ref().map(|l| l.value.clone()),
                     max_lag: self.exo_max_lag[i],
                 })
@@ -244,7 +244,7 @@ impl<'a> Checker<'a> {
     }
 
     /// Sorts the statements into their kinds, in file order.
-    fn collect(&mut self, file: &'a ast::File) {
+    fn collect(&mut self, file: &'a ast::File<'a>) {
         for st in &file.statements {
             match st {
                 ast::Statement::Title { keyword, text } => {
@@ -288,7 +288,7 @@ impl<'a> Checker<'a> {
 
     /// Enters every declared name, reporting names declared twice (both places shown).
     fn declare(&mut self) {
-        let mut decls: Vec<(&'a ast::Name, Symbol)> = Vec::new();
+        let mut decls: Vec<(&'a ast::Name<'a>, Symbol)> = Vec::new();
         decls.extend(
             self.endogenous
                 .iter()
@@ -309,7 +309,7 @@ impl<'a> Checker<'a> {
         );
         decls.sort_by_key(|(n, _)| n.span.start);
         for (name, sym) in decls {
-            if let Some(&(first_sym, first_span)) = self.names.get(name.text.as_str()) {
+            if let Some(&(first_sym, first_span)) = self.names.get(name.text) {
                 let message = if first_sym.kind() == sym.kind() {
                     format!("`{}` is declared twice", name.text)
                 } else {
@@ -326,7 +326,7 @@ impl<'a> Checker<'a> {
                         .with_help("each name is declared once; rename or remove one of them"),
                 );
             } else {
-                self.names.insert(name.text.as_str(), (sym, name.span));
+                self.names.insert(name.text, (sym, name.span));
             }
         }
     }
@@ -368,8 +368,8 @@ impl<'a> Checker<'a> {
 
     /// Classifies a time index; reports and returns `None` when it is not `t`, `t+k`, `t-k`
     /// (integer literal `k`) or `ss`.
-    fn index(&mut self, index: &ast::Expr) -> Option<Index> {
-        let offset_of = |c: &mut Self, sign: i64, k: &ast::Expr| -> Option<Index> {
+    fn index(&mut self, index: &ast::Expr<'a>) -> Option<Index> {
+        let offset_of = |c: &mut Self, sign: i64, k: &ast::Expr<'a>| -> Option<Index> {
             match &k.kind {
                 ExprKind::Number {
                     value,
@@ -454,7 +454,7 @@ impl<'a> Checker<'a> {
         &mut self,
         name: &str,
         span: Span,
-        index: Option<(&ast::Expr, Index)>,
+        index: Option<(&ast::Expr<'a>, Index)>,
         place: Place,
         refs: &mut Refs,
     ) -> Option<Expr> {
@@ -628,7 +628,7 @@ impl<'a> Checker<'a> {
     /// Lowers a syntax-tree expression to a model expression at `place`, collecting the names it
     /// depends on in `refs`. Returns `None` after reporting when any part is wrong (every wrong
     /// part is reported). Recursive; depth bounded by the parser's limit.
-    fn lower(&mut self, e: &ast::Expr, place: Place, refs: &mut Refs) -> Option<Expr> {
+    fn lower(&mut self, e: &ast::Expr<'a>, place: Place, refs: &mut Refs) -> Option<Expr> {
         match &e.kind {
             ExprKind::Number { value, .. } => Some(Expr::Number(*value)),
             ExprKind::Name(n) => self.resolve(n, e.span, None, place, refs),
@@ -736,7 +736,7 @@ impl<'a> Checker<'a> {
                 );
                 if let Some(f) = did_you_mean(&name.text, FUNCTIONS.iter().copied()) {
                     d = d.with_help(format!("did you mean `{f}`?"));
-                } else if self.names.contains_key(name.text.as_str()) {
+                } else if self.names.contains_key(name.text) {
                     d = d.with_help(format!(
                         "`{}` is declared as a name, not a function; a product needs `*`",
                         name.text
@@ -781,7 +781,9 @@ impl<'a> Checker<'a> {
             exprs.push(e);
             deps.push(refs.parameters);
         }
-        let order = self.order("parameter", &deps, |c, i| c.parameters[i].name.text.clone());
+        let order = self.order("parameter", &deps, |c, i| {
+            c.parameters[i].name.text.to_string()
+        });
         let mut values = vec![f64::NAN; n];
         let mut computable = vec![false; n];
         for &i in &order {
@@ -826,7 +828,7 @@ impl<'a> Checker<'a> {
             .map(|i| {
                 let d = self.parameters[i];
                 Parameter {
-                    name: d.name.text.clone(),
+                    name: d.name.text.to_string(),
                     label: d.label.as_ref().map(|l| l.value.clone()),
                     expr: exprs[i].clone().unwrap_or(Expr::Number(f64::NAN)),
                     value: values[i],
@@ -837,12 +839,12 @@ impl<'a> Checker<'a> {
     }
 
     fn parameter_used_anywhere(&self, i: usize) -> bool {
-        let name = self.parameters[i].name.text.as_str();
+        let name = self.parameters[i].name.text;
         let mut used = false;
-        let mut look = |e: &ast::Expr| {
+        let mut look = |e: &ast::Expr<'a>| {
             e.walk(&mut |x| {
                 if let ExprKind::Name(n) = &x.kind {
-                    used |= n == name;
+                    used |= *n == name;
                 }
             })
         };
@@ -957,14 +959,18 @@ impl<'a> Checker<'a> {
             parameters: self
                 .parameters
                 .iter()
-                .map(|p| p.name.text.clone())
+                .map(|p| p.name.text.to_string())
                 .collect(),
             endogenous: self
                 .endogenous
                 .iter()
-                .map(|p| p.name.text.clone())
+                .map(|p| p.name.text.to_string())
                 .collect(),
-            exogenous: self.exogenous.iter().map(|p| p.name.text.clone()).collect(),
+            exogenous: self
+                .exogenous
+                .iter()
+                .map(|p| p.name.text.to_string())
+                .collect(),
         }
     }
 
@@ -980,7 +986,7 @@ impl<'a> Checker<'a> {
             };
             if let (Some(lhs), Some(rhs)) = (lhs, rhs) {
                 out.push(Equation {
-                    label: q.label.as_ref().map(|l| l.text.clone()),
+                    label: q.label.as_ref().map(|l| l.text.to_string()),
                     lhs,
                     rhs,
                 });
@@ -990,7 +996,7 @@ impl<'a> Checker<'a> {
         let mut seen: HashMap<&str, Span> = HashMap::new();
         for q in &self.equations {
             if let Some(l) = &q.label {
-                if let Some(first) = seen.get(l.text.as_str()) {
+                if let Some(first) = seen.get(l.text) {
                     let d = Diagnostic::error(
                         "duplicate",
                         format!("equation label `{}` is used twice", l.text),
@@ -1001,7 +1007,7 @@ impl<'a> Checker<'a> {
                     .with_help("each equation label names one equation");
                     self.diags.push(d);
                 } else {
-                    seen.insert(l.text.as_str(), l.span);
+                    seen.insert(l.text, l.span);
                 }
             }
         }
@@ -1040,7 +1046,7 @@ impl<'a> Checker<'a> {
             let vars = list(
                 self.endogenous
                     .iter()
-                    .map(|d| d.name.text.clone())
+                    .map(|d| d.name.text.to_string())
                     .collect(),
             );
             let eqs = list(
@@ -1048,7 +1054,7 @@ impl<'a> Checker<'a> {
                     .iter()
                     .enumerate()
                     .map(|(i, q)| match &q.label {
-                        Some(l) => l.text.clone(),
+                        Some(l) => l.text.to_string(),
                         None => format!("#{}", i + 1),
                     })
                     .collect(),
@@ -1093,8 +1099,8 @@ impl<'a> Checker<'a> {
         }
     }
 
-    fn shock(&mut self, name: &ast::Name) -> Option<usize> {
-        match self.names.get(name.text.as_str()).copied() {
+    fn shock(&mut self, name: &ast::Name<'a>) -> Option<usize> {
+        match self.names.get(name.text).copied() {
             Some((Symbol::Exogenous(i), _)) => Some(i),
             Some((sym, decl)) => {
                 self.error(
@@ -1210,14 +1216,14 @@ impl<'a> Checker<'a> {
         let n_endo = self.endogenous.len();
         let mut items: Vec<SteadyItem> = Vec::new();
         let mut item_refs: Vec<Vec<(usize, Span)>> = Vec::new();
-        let mut item_decl: Vec<&ast::SteadyDecl> = Vec::new();
+        let mut item_decl: Vec<&ast::SteadyDecl<'a>> = Vec::new();
         let mut known_at: Vec<Option<usize>> = vec![None; n_endo];
         let mut guess_at: Vec<Option<usize>> = vec![None; n_endo];
         for k in 0..self.steady.len() {
             let s = self.steady[k];
             let mut refs = Refs::default();
             let e = self.lower(&s.value, Place::Steady, &mut refs);
-            let var = match self.names.get(s.name.text.as_str()).copied() {
+            let var = match self.names.get(s.name.text).copied() {
                 Some((Symbol::Endogenous(i), _)) => Some(i),
                 Some((sym, decl)) => {
                     self.error(
@@ -1321,7 +1327,7 @@ impl<'a> Checker<'a> {
                     Some(j) => deps[k].push((j, span)),
                     None => {
                         ok = false;
-                        let name = self.endogenous[v].name.text.clone();
+                        let name = self.endogenous[v].name.text.to_string();
                         self.error(
                             Diagnostic::error(
                                 "steady-unknown",
@@ -1339,7 +1345,7 @@ impl<'a> Checker<'a> {
             }
         }
         let order = self.order("steady-state", &deps, |c, k| {
-            c.endogenous[items_var(&items, k)].name.text.clone()
+            c.endogenous[items_var(&items, k)].name.text.to_string()
         });
         let values: Vec<f64> = parameters.iter().map(|p| p.value).collect();
         if !ok || !values.iter().all(|v| v.is_finite()) {
@@ -1398,7 +1404,7 @@ impl<'a> Checker<'a> {
         let params_ok = values.iter().all(|v| v.is_finite());
         for k in 0..self.options.len() {
             let o = self.options[k];
-            let name = o.name.text.as_str();
+            let name = o.name.text;
             const OPTIONS: [&str; 3] = ["discount", "threshold", "horizon"];
             if !OPTIONS.contains(&name) {
                 let mut d = Diagnostic::error(
