@@ -634,7 +634,7 @@ impl<'a> Checker<'a> {
             ExprKind::Name(n) => self.resolve(n, e.span, None, place, refs),
             ExprKind::Indexed { name, index } => {
                 let ix = self.index(index)?;
-                self.resolve(&name.text, e.span, Some((index, ix)), place, refs)
+                self.resolve(name.text, e.span, Some((index, ix)), place, refs)
             }
             ExprKind::Time | ExprKind::SteadyMark => {
                 let word = if matches!(e.kind, ExprKind::Time) {
@@ -734,7 +734,7 @@ impl<'a> Checker<'a> {
                     name.span,
                     "not a function",
                 );
-                if let Some(f) = did_you_mean(&name.text, FUNCTIONS.iter().copied()) {
+                if let Some(f) = did_you_mean(name.text, FUNCTIONS.iter().copied()) {
                     d = d.with_help(format!("did you mean `{f}`?"));
                 } else if self.names.contains_key(name.text) {
                     d = d.with_help(format!(
@@ -1121,7 +1121,7 @@ impl<'a> Checker<'a> {
                     name.span,
                     "not declared",
                 );
-                if let Some(h) = self.suggest(&name.text, |s| matches!(s, Symbol::Exogenous(_))) {
+                if let Some(h) = self.suggest(name.text, |s| matches!(s, Symbol::Exogenous(_))) {
                     d = d.with_help(h);
                 } else {
                     d = d.with_help("declare it in the exogenous section");
@@ -1249,7 +1249,7 @@ impl<'a> Checker<'a> {
                         "not declared",
                     );
                     if let Some(h) =
-                        self.suggest(&s.name.text, |s| matches!(s, Symbol::Endogenous(_)))
+                        self.suggest(s.name.text, |s| matches!(s, Symbol::Endogenous(_)))
                     {
                         d = d.with_help(h);
                     }
