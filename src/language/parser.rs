@@ -436,3 +436,56 @@ fn size_diagnostic(source: &str) -> Option<Diagnostic> {
     }
     None
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn parser_symbols_stay_small() {
+        // Every value the grammar's actions return sits on the LR parser's stack and is moved
+        // several times; keeping the large ones boxed is what makes parsing fast (see
+        // docs/performance.md). These are the largest symbol types.
+        let sizes = [
+            ("Tok", std::mem::size_of::<Tok>()),
+            ("Name", std::mem::size_of::<Name>()),
+            (
+                "StringLit",
+                std::mem::size_of::<super::super::ast::StringLit>(),
+            ),
+            (
+                "Statement",
+                std::mem::size_of::<super::super::ast::Statement>(),
+            ),
+            (
+                "EndogenousDecl",
+                std::mem::size_of::<super::super::ast::EndogenousDecl>(),
+            ),
+        ];
+        eprintln!("{sizes:?}, Expr {}", std::mem::size_of::<Expr>());
+        for (name, size) in sizes {
+            assert!(size <= 96, "{name} is {size} bytes");
+        }
+    }
+
+    #[test]
+    fn parse_recovers_at_each_line_end() {
+        let (file, diags) =
+            parse("endogenous\n  x y\n  z\nequations\n  x = )\n  z = 1 +* 2\n  x = z\n");
+        assert_eq!(diags.len(), 3, "{diags:#?}");
+        // The good statements on either side of the bad ones survive.
+        let names: usize = file
+            .statements
+            .iter()
+            .map(|s| match s {
+                super::super::ast::Statement::Endogenous(v) => v.len(),
+                _ => 0,
+            })
+            .sum();
+        assert_eq!(names, 1);
+        assert!(file
+            .statements
+            .iter()
+            .any(|s| matches!(s, super::super::ast::Statement::Equation(_))));
+    }
+}
