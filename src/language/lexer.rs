@@ -333,6 +333,9 @@ pub struct Lexer<'a> {
     last: Option<Last>,
     /// Tokens in the current statement.
     statement_tokens: usize,
+    /// End offset of the last token handed out (where a statement's newline token is placed, so
+    /// that "expected ... found the end of the line" points at the statement, not at a comment).
+    last_end: usize,
     /// The rest of the statement is being skipped after an error that makes it meaningless.
     skipping: bool,
     /// While skipping: the last skipped token continues the line.
@@ -355,6 +358,7 @@ impl<'a> Lexer<'a> {
             queue: std::collections::VecDeque::new(),
             last: None,
             statement_tokens: 0,
+            last_end: 0,
             skipping: false,
             skip_continues: false,
             at_line_start: true,
@@ -387,6 +391,7 @@ impl<'a> Lexer<'a> {
             }
         }
         self.statement_tokens += 1;
+        self.last_end = end;
         if self.statement_tokens > MAX_STATEMENT_TOKENS {
             self.diagnostics.push(
                 Diagnostic::error(
@@ -418,10 +423,12 @@ impl<'a> Lexer<'a> {
         self.skipping = true;
     }
 
-    /// Ends the current statement (if one is open) with a newline token at `at`.
-    fn end_statement(&mut self, at: usize, width: usize) {
+    /// Ends the current statement (if one is open) with a zero-width newline token right after
+    /// its last token.
+    fn end_statement(&mut self) {
         if self.last.is_some() {
-            self.queue.push_back((at, Tok::Newline, at + width));
+            let at = self.last_end;
+            self.queue.push_back((at, Tok::Newline, at));
         }
         self.last = None;
         self.statement_tokens = 0;
@@ -506,13 +513,12 @@ impl<'a> Lexer<'a> {
             let Some((raw, range)) = self.raw.next() else {
                 if !self.finished {
                     self.finished = true;
-                    let end = self.source.len();
                     if let Some(open) = self.brackets.last().copied() {
                         if !self.skipping {
                             self.unclosed(open);
                         }
                     }
-                    self.end_statement(end, 0);
+                    self.end_statement();
                 }
                 return;
             };
@@ -534,7 +540,7 @@ impl<'a> Lexer<'a> {
                         self.last == Some(Last::Continues)
                     };
                 if !continues {
-                    self.end_statement(span.start, 1);
+                    self.end_statement();
                 }
                 continue;
             }
@@ -552,7 +558,7 @@ impl<'a> Lexer<'a> {
                     if !self.skipping {
                         self.unclosed(open);
                     }
-                    self.end_statement(span.start, 0);
+                    self.end_statement();
                 }
             }
             if self.skipping {
