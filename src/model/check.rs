@@ -1364,9 +1364,37 @@ impl<'a> Checker<'a> {
             {
                 continue;
             }
-            if v.is_finite() {
+            let var = items[k].variable;
+            if v.is_finite() && v <= 0.0 && self.endogenous[var].log.is_some() {
+                let decl = item_decl[k];
+                self.error(
+                    Diagnostic::error(
+                        "log-not-positive",
+                        format!(
+                            "`{}` is a log variable, but its steady {} is {}",
+                            decl.name.text,
+                            if items[k].kind == SteadyKind::Guess {
+                                "guess"
+                            } else {
+                                "value"
+                            },
+                            number_or_word(v)
+                        ),
+                        decl.value.span,
+                        "not positive",
+                    )
+                    .with_label(
+                        self.endogenous[var].log.unwrap_or_default(),
+                        "declared `log` here",
+                    )
+                    .with_help(
+                        "a variable linearized in logs needs a positive steady state; drop `log` \
+                         or fix the value",
+                    ),
+                );
+            } else if v.is_finite() {
                 if items[k].kind == SteadyKind::Known {
-                    steady[items[k].variable] = v;
+                    steady[var] = v;
                 }
             } else {
                 let names = self.names_for_print();
