@@ -27,6 +27,11 @@ use crate::language::{self, Diagnostic, Span};
 /// mistyped `x[t+100000]` from building a system of millions of equations.
 pub const MAX_TIME_OFFSET: i64 = 100;
 
+/// Most candidate names compared, over a whole file, when looking for did-you-mean suggestions:
+/// ample for any real model (fifty typos among ten thousand names) and a bound on the work
+/// for hostile input (many unknown names among many declared ones would otherwise be quadratic).
+pub const SUGGESTION_BUDGET: usize = 500_000;
+
 /// Largest `options horizon` accepted (periods of impulse responses).
 pub const MAX_HORIZON: u32 = 100_000;
 
@@ -181,6 +186,13 @@ struct Checker<'a> {
     exo_max_lag: Vec<u32>,
     /// Valueless parameters already reported at a use.
     reported_no_value: Vec<bool>,
+    /// Every bare name used in an expression (collected on first need).
+    used_names: Option<std::collections::HashSet<&'a str>>,
+    /// Unknown names reported so far (suggestions are looked for only for the first few, since
+    /// only [`language::diagnostics::MAX_DIAGNOSTICS`] are shown).
+    unknown_reported: usize,
+    /// Candidate names compared so far when looking for suggestions.
+    suggestion_work: usize,
 }
 
 impl<'a> Checker<'a> {
@@ -331,14 +343,24 @@ impl<'a> Checker<'a> {
         }
     }
 
-    fn suggest(&self, name: &str, filter: impl Fn(Symbol) -> bool) -> Option<String> {
-        let found = did_you_mean(
-            name,
-            self.names
-                .iter()
-                .filter(|(_, (s, _))| filter(*s))
-                .map(|(n, _)| *n),
-        );
+    fn suggest(&mut self, name: &str, filter: impl Fn(Symbol) -> bool) -> Option<String> {
+        self.unknown_reported += 1;
+        if self.unknown_reported > language::diagnostics::MAX_DIAGNOSTICS
+            || self.suggestion_work > SUGGESTION_BUDGET
+        {
+            return None;
+        }
+        self.suggestion_work += self.names.len();
+        // Candidates in declaration order, so that ties go to the name declared first (a hash
+        // map's order would make the suggestion change from run to run).
+        let mut candidates: Vec<(&str, Span)> = self
+            .names
+            .iter()
+            .filter(|(_, (s, _))| filter(*s))
+            .map(|(n, (_, span))| (*n, *span))
+            .collect();
+        candidates.sort_by_key(|(_, span)| span.start);
+        let found = did_you_mean(name, candidates.iter().map(|(n, _)| *n));
         found.map(|s| format!("did you mean `{s}`?"))
     }
 
@@ -838,37 +860,44 @@ impl<'a> Checker<'a> {
         (params, order)
     }
 
-    fn parameter_used_anywhere(&self, i: usize) -> bool {
-        let name = self.parameters[i].name.text;
-        let mut used = false;
-        let mut look = |e: &ast::Expr<'a>| {
-            e.walk(&mut |x| {
-                if let ExprKind::Name(n) = &x.kind {
-                    used |= *n == name;
+    /// Whether parameter `i`'s name occurs as a bare name in any expression of the file. The set
+    /// of such names is collected once (so a file with many valueless parameters stays linear).
+    fn parameter_used_anywhere(&mut self, i: usize) -> bool {
+        if self.used_names.is_none() {
+            let mut set: std::collections::HashSet<&'a str> = Default::default();
+            let mut look = |e: &'a ast::Expr<'a>| {
+                e.walk(&mut |x| {
+                    if let ExprKind::Name(n) = &x.kind {
+                        set.insert(*n);
+                    }
+                })
+            };
+            for p in &self.parameters {
+                if let Some(v) = &p.value {
+                    look(v);
                 }
-            })
-        };
-        for p in &self.parameters {
-            if let Some(v) = &p.value {
-                look(v);
             }
-        }
-        for q in &self.equations {
-            look(&q.lhs);
-            if let Some(r) = &q.rhs {
-                look(r);
+            for q in &self.equations {
+                look(&q.lhs);
+                if let Some(r) = &q.rhs {
+                    look(r);
+                }
             }
+            for c in &self.covariance {
+                look(&c.value);
+            }
+            for st in &self.steady {
+                look(&st.value);
+            }
+            for o in &self.options {
+                look(&o.value);
+            }
+            self.used_names = Some(set);
         }
-        for c in &self.covariance {
-            look(&c.value);
-        }
-        for s in &self.steady {
-            look(&s.value);
-        }
-        for o in &self.options {
-            look(&o.value);
-        }
-        used
+        let name = self.parameters[i].name.text;
+        self.used_names
+            .as_ref()
+            .is_some_and(|set| set.contains(name))
     }
 
     /// A topological order of nodes `0..deps.len()` (each after the nodes it depends on), found
@@ -884,11 +913,14 @@ impl<'a> Checker<'a> {
         let mut state = vec![0u8; n]; // 0 new, 1 on the stack, 2 done
         let mut in_reported_cycle = vec![false; n];
         let mut order = Vec::with_capacity(n);
+        // Position of each node on the stack while it is there (keeps cycle extraction O(cycle)).
+        let mut depth_of = vec![0usize; n];
         for root in 0..n {
             if state[root] != 0 {
                 continue;
             }
             state[root] = 1;
+            depth_of[root] = 0;
             let mut stack: Vec<(usize, usize)> = vec![(root, 0)];
             while let Some(&mut (v, ref mut next)) = stack.last_mut() {
                 if *next < deps[v].len() {
@@ -897,10 +929,11 @@ impl<'a> Checker<'a> {
                     match state[w] {
                         0 => {
                             state[w] = 1;
+                            depth_of[w] = stack.len();
                             stack.push((w, 0));
                         }
                         1 if !in_reported_cycle[w] => {
-                            let pos = stack.iter().position(|(x, _)| *x == w).unwrap_or(0);
+                            let pos = depth_of[w].min(stack.len() - 1);
                             let cycle: Vec<usize> = stack[pos..].iter().map(|(x, _)| *x).collect();
                             for &c in &cycle {
                                 in_reported_cycle[c] = true;
@@ -926,12 +959,17 @@ impl<'a> Checker<'a> {
         deps: &[Vec<(usize, Span)>],
         name: &impl Fn(&Self, usize) -> String,
     ) {
-        let names: Vec<String> = cycle.iter().map(|&i| name(self, i)).collect();
+        // Long cycles are shown by their first links only.
+        const SHOWN: usize = 12;
+        let names: Vec<String> = cycle.iter().take(SHOWN).map(|&i| name(self, i)).collect();
         let mut path = names.join(" -> ");
+        if cycle.len() > SHOWN {
+            path.push_str(&format!(" -> ... ({} in the cycle)", cycle.len()));
+        }
         path.push_str(&format!(" -> {}", names[0]));
         // The reference closing each edge u -> v of the cycle.
         let mut labels = Vec::new();
-        for (k, &u) in cycle.iter().enumerate() {
+        for (k, &u) in cycle.iter().enumerate().take(SHOWN) {
             let v = cycle[(k + 1) % cycle.len()];
             if let Some((_, span)) = deps[u].iter().find(|(w, _)| *w == v) {
                 labels.push((*span, format!("`{}` uses `{}`", names[k], name(self, v))));
