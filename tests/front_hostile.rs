@@ -174,3 +174,17 @@ fn quadratic_traps_stay_linear() {
     );
     assert!(d[0].labels.len() < 20);
 }
+
+#[test]
+fn too_many_innovations_are_refused_before_building_their_matrix() {
+    let mut src = String::from("endogenous\n  x\nexogenous\n");
+    for i in 0..200_000 {
+        src.push_str(&format!("  e{i}\n"));
+    }
+    src.push_str("equations\n  x = e0\n");
+    let started = Instant::now();
+    let d = check_source(&src).unwrap_err();
+    assert!(started.elapsed() < QUICK);
+    assert_eq!(d.len(), 1);
+    assert_eq!(d[0].code, "too-many-innovations");
+}

@@ -32,6 +32,10 @@ pub const MAX_TIME_OFFSET: i64 = 100;
 /// for hostile input (many unknown names among many declared ones would otherwise be quadratic).
 pub const SUGGESTION_BUDGET: usize = 500_000;
 
+/// Most innovations a model may declare. Their covariance matrix is stored in full (n^2
+/// numbers) and checked by an eigenvalue decomposition (n^3 work); models have a few dozen.
+pub const MAX_INNOVATIONS: usize = 1000;
+
 /// Largest `options horizon` accepted (periods of impulse responses).
 pub const MAX_HORIZON: u32 = 100_000;
 
@@ -1175,6 +1179,19 @@ impl<'a> Checker<'a> {
         parameters: &[Parameter],
     ) -> (Vec<CovarianceItem>, nalgebra::DMatrix<f64>, Vec<bool>) {
         let n = self.exogenous.len();
+        if n > MAX_INNOVATIONS {
+            let d = self.exogenous[MAX_INNOVATIONS];
+            self.error(
+                Diagnostic::error(
+                    "too-many-innovations",
+                    format!("the model declares {n} innovations; the limit is {MAX_INNOVATIONS}"),
+                    d.name.span,
+                    "one too many",
+                )
+                .with_help("the covariance matrix of the innovations is stored in full"),
+            );
+            return (Vec::new(), nalgebra::DMatrix::zeros(0, 0), Vec::new());
+        }
         let mut items = Vec::new();
         let mut spans = Vec::new();
         let mut ok = true;
