@@ -96,10 +96,13 @@ pub enum CovarianceProblem {
     #[error("a correlation of an innovation with itself is always 1")]
     SelfCorrelation,
     #[error(
-        "the correlations do not form a valid correlation matrix (smallest eigenvalue {0:.3e})"
+        "the correlations contradict each other: they do not form a valid correlation matrix (smallest eigenvalue {0:.3})"
     )]
     NotPositiveSemidefinite(f64),
 }
+
+/// A covariance matrix and, per innovation, whether its sd or var was given.
+pub type Covariance = (DMatrix<f64>, Vec<bool>);
 
 /// Builds the covariance matrix of `n` innovations from `items` at the parameter values `values`.
 /// Returns the matrix and, per innovation, whether its sd or var was given; or every problem
@@ -109,7 +112,7 @@ pub fn build_covariance(
     n: usize,
     items: &[CovarianceItem],
     values: &[f64],
-) -> Result<(DMatrix<f64>, Vec<bool>), Vec<(usize, CovarianceProblem)>> {
+) -> Result<Covariance, Vec<(usize, CovarianceProblem)>> {
     let leaves = Values {
         parameters: values,
         steady: &[],
