@@ -85,6 +85,8 @@ pub struct Layout {
     pub statics: Vec<usize>,
     /// Variable names (for element names).
     names: Vec<String>,
+    /// Equation names (labels, else `equation i`).
+    equation_names: Vec<String>,
 }
 
 impl Layout {
@@ -155,6 +157,9 @@ impl Layout {
             forward,
             statics,
             names,
+            equation_names: (0..model.equations.len())
+                .map(|i| model.equation_name(i))
+                .collect(),
         }
     }
 
@@ -199,6 +204,9 @@ pub struct Pencil {
     pub forward: Vec<ForwardElement>,
     /// Names of all elements of z.
     pub names: Vec<String>,
+    /// What each row of the pencil is: an equation's name, `a combination of equations` after
+    /// static elimination, or `the definition of x[t-1]` for an auxiliary link.
+    pub row_names: Vec<String>,
     /// `Some` when static variables were eliminated.
     pub statics: Option<StaticBlock>,
     /// Static variables were present but kept because elimination would not have been exact.
@@ -356,6 +364,7 @@ fn assemble(
                 n_predetermined: nk,
                 forward,
                 names: Vec::new(),
+                row_names: Vec::new(),
                 statics: None,
                 statics_kept_for_rank: false,
             });
@@ -390,6 +399,15 @@ fn assemble(
     c.rows_mut(0, n_model)
         .copy_from(&model_rows.columns(2 * dim, ne));
     let mut row = n_model;
+    let mut row_names: Vec<String> = if ms > 0 {
+        vec!["a combination of equations (static variables eliminated)".to_string(); n_model]
+    } else {
+        layout.equation_names.clone()
+    };
+    let mut element_names = layout.state_names.clone();
+    for f in &forward {
+        element_names.push(dated(&layout.names[f.variable], f.lead as i32));
+    }
     let link = |row: &mut usize| -> Result<usize, CanonicalError> {
         if *row >= dim {
             return Err(CanonicalError::Shape {
@@ -409,6 +427,7 @@ fn assemble(
             } => {
                 if let Some(x) = forward.iter().position(|f| f.variable == j && f.lead == 0) {
                     let r = link(&mut row)?;
+                    row_names.push(format!("the definition of {}", element_names[s]));
                     a[(r, s)] = 1.0;
                     b[(r, nk + x)] = 1.0;
                 }
@@ -416,6 +435,7 @@ fn assemble(
             }
             StateElement::VariableLag { variable: j, lag } => {
                 let r = link(&mut row)?;
+                row_names.push(format!("the definition of {}", element_names[s]));
                 a[(r, s)] = 1.0;
                 if let Some(prev) = layout.state_of_variable(j, lag - 1) {
                     b[(r, prev)] = 1.0;
@@ -423,11 +443,13 @@ fn assemble(
             }
             StateElement::ShockLag { shock, lag: 1 } => {
                 let r = link(&mut row)?;
+                row_names.push(format!("the definition of {}", element_names[s]));
                 a[(r, s)] = 1.0;
                 c[(r, shock)] = 1.0;
             }
             StateElement::ShockLag { shock, lag } => {
                 let r = link(&mut row)?;
+                row_names.push(format!("the definition of {}", element_names[s]));
                 a[(r, s)] = 1.0;
                 if let Some(prev) = layout.state_of_shock(shock, lag - 1) {
                     b[(r, prev)] = 1.0;
@@ -443,6 +465,7 @@ fn assemble(
                 .position(|g| g.variable == f.variable && g.lead == f.lead - 1)
             {
                 let r = link(&mut row)?;
+                row_names.push(format!("the definition of {}", element_names[nk + p]));
                 a[(r, nk + prev)] = 1.0;
                 b[(r, nk + p)] = 1.0;
             }
@@ -454,17 +477,14 @@ fn assemble(
             cols: dim,
         });
     }
-    let mut names = layout.state_names.clone();
-    for f in &forward {
-        names.push(dated(&layout.names[f.variable], f.lead as i32));
-    }
     Ok(Pencil {
         a,
         b,
         c,
         n_predetermined: nk,
         forward,
-        names,
+        names: element_names,
+        row_names,
         statics,
         statics_kept_for_rank: false,
     })

@@ -7,7 +7,7 @@
 //! generalized Schur form so that the offending root leads: the first column(s) of Z then span its
 //! (right) deflating subspace (Golub and Van Loan, Matrix Computations, 4th ed., §7.7.8).
 
-use super::solve::{is_stable, INFINITE_MODULUS};
+use super::solve::INFINITE_MODULUS;
 use super::{Counts, Root, Status};
 use crate::canonical::Pencil;
 use crate::qz::GeneralizedSchur;
@@ -88,40 +88,36 @@ fn nearest(roots: &[Root], tau: f64) -> String {
     }
 }
 
-/// Which variables the deflating subspace of the roots with modulus `target` (None: infinite)
-/// loads on most, as `infl (61%), gap (30%)`; `None` if it cannot be computed.
-fn loadings(
-    pencil: &Pencil,
-    target: Option<f64>,
-    tau: f64,
-    boundary_stable: bool,
-) -> Option<String> {
-    let mut schur = GeneralizedSchur::new(pencil.b.clone(), pencil.a.clone()).ok()?;
-    let count = schur
-        .reorder(|alpha, beta| {
-            let a = alpha.norm();
-            let b = beta.norm();
-            match target {
-                None => a > INFINITE_MODULUS * b,
-                Some(m) => {
-                    a <= INFINITE_MODULUS * b
-                        && (a - m * b).abs() <= SAME_MODULUS * a.max(m * b)
-                        // keep the side of the threshold the root was counted on
-                        && is_stable(alpha, beta, tau, boundary_stable) == (m < tau || (boundary_stable && (m - tau).abs() <= 1e-6 * tau))
-                }
-            }
-        })
-        .ok()?;
-    if count == 0 {
-        return None;
+/// Whether `(alpha, beta)` is one of the roots with modulus `target` (None: infinite).
+fn is_target(alpha: crate::qz::C64, beta: crate::qz::C64, target: Option<f64>) -> bool {
+    let a = alpha.norm();
+    let b = beta.norm();
+    match target {
+        None => a > INFINITE_MODULUS * b,
+        Some(m) => a <= INFINITE_MODULUS * b && (a - m * b).abs() <= SAME_MODULUS * a.max(m * b),
     }
-    let z = schur.z();
+}
+
+/// Shares of the squared entries of `cols` columns of `v` (starting at `first`), summed by name
+/// (the part before `[`), as `infl (61%), gap (30%)`.
+fn shares(
+    v: &nalgebra::DMatrix<crate::qz::C64>,
+    first: usize,
+    cols: usize,
+    names: &[String],
+) -> Option<String> {
     let mut by_name: Vec<(String, f64)> = Vec::new();
     let mut total = 0.0;
-    for (i, name) in pencil.names.iter().enumerate() {
-        let w: f64 = (0..count).map(|c| z[(i, c)].norm_sqr()).sum();
+    for (i, name) in names.iter().enumerate().take(v.nrows()) {
+        let w: f64 = (first..first + cols).map(|c| v[(i, c)].norm_sqr()).sum();
         total += w;
-        let base = name.split('[').next().unwrap_or(name).to_string();
+        let base = match name.strip_prefix("the definition of ") {
+            Some(rest) => format!(
+                "the definition of {}",
+                rest.split('[').next().unwrap_or(rest)
+            ),
+            None => name.split('[').next().unwrap_or(name).to_string(),
+        };
         match by_name.iter_mut().find(|(n, _)| *n == base) {
             Some(e) => e.1 += w,
             None => by_name.push((base, w)),
@@ -144,6 +140,44 @@ fn loadings(
     }
 }
 
+/// For the roots with modulus `target` (None: infinite): the variables their right deflating
+/// subspace loads on most (leading columns of Z after moving them first) and the equations their
+/// left subspace weighs most (trailing columns of Q after moving them last).
+fn loadings(pencil: &Pencil, target: Option<f64>) -> (Option<String>, Option<String>) {
+    let right = (|| {
+        let mut schur = GeneralizedSchur::new(pencil.b.clone(), pencil.a.clone()).ok()?;
+        let count = schur.reorder(|a, b| is_target(a, b, target)).ok()?;
+        if count == 0 {
+            return None;
+        }
+        shares(schur.z(), 0, count, &pencil.names)
+    })();
+    let left = (|| {
+        let mut schur = GeneralizedSchur::new(pencil.b.clone(), pencil.a.clone()).ok()?;
+        let others = schur.reorder(|a, b| !is_target(a, b, target)).ok()?;
+        let n = schur.dim();
+        if others >= n {
+            return None;
+        }
+        shares(schur.q(), others, n - others, &pencil.row_names)
+    })();
+    (right, left)
+}
+
+fn loading_sentence(what: &str, right: Option<String>, left: Option<String>) -> String {
+    let mut out = String::new();
+    if let Some(r) = right {
+        out.push_str(&format!(" {what} moves mostly {r}"));
+        if let Some(l) = &left {
+            out.push_str(&format!(" and comes mostly from {l}"));
+        }
+        out.push('.');
+    } else if let Some(l) = left {
+        out.push_str(&format!(" {what} comes mostly from {l}."));
+    }
+    out
+}
+
 /// The diagnosis of a failed counting condition.
 pub fn count_failure(
     status: Status,
@@ -151,7 +185,6 @@ pub fn count_failure(
     roots: &[Root],
     tau: f64,
     pencil: &Pencil,
-    boundary_stable: bool,
 ) -> String {
     let u = counts.unstable;
     let f = counts.forward_looking;
@@ -169,9 +202,13 @@ pub fn count_failure(
                 .filter_map(|r| r.modulus)
                 .fold(None::<f64>, |a, m| Some(a.map_or(m, |a| a.max(m))));
             let load = surplus
-                .and_then(|m| loadings(pencil, Some(m), tau, boundary_stable).map(|l| (m, l)))
-                .map(|(m, l)| {
-                    format!(" The surplus stable direction (modulus {m:.4}) loads most on {l}.")
+                .map(|m| {
+                    let (r, l) = loadings(pencil, Some(m));
+                    loading_sentence(
+                        &format!("The surplus stable direction (modulus {m:.4})"),
+                        r,
+                        l,
+                    )
                 })
                 .unwrap_or_default();
             format!(
@@ -182,10 +219,15 @@ pub fn count_failure(
         _ => {
             let surplus = roots.iter().filter(|r| !r.stable).map(|r| r.modulus).next();
             let load = surplus
-                .and_then(|m| loadings(pencil, m, tau, boundary_stable).map(|l| (m, l)))
-                .map(|(m, l)| match m {
-                    Some(m) => format!(" The explosive direction nearest the threshold (modulus {m:.4}) loads most on {l}."),
-                    None => format!(" The surplus infinite root loads most on {l}."),
+                .map(|m| {
+                    let (r, l) = loadings(pencil, m);
+                    let what = match m {
+                        Some(m) => format!(
+                            "The explosive direction nearest the threshold (modulus {m:.4})"
+                        ),
+                        None => "The surplus infinite root".to_string(),
+                    };
+                    loading_sentence(&what, r, l)
                 })
                 .unwrap_or_default();
             format!(

@@ -359,13 +359,20 @@ impl PreparedModel {
             }
         }
         if status == Status::Indeterminate || status == Status::NoStableSolution {
+            // Loadings read best on the pencil whose rows are the model's own equations.
+            let kept;
+            let for_diagnosis = if pencil.statics.is_some() {
+                kept = build_pencil(&self.layout, &linear, StaticTreatment::Keep)?;
+                &kept
+            } else {
+                &pencil
+            };
             diagnosis_text = Some(diagnosis::count_failure(
                 status,
                 &counts,
                 &roots,
                 tau,
-                &pencil,
-                boundary_stable,
+                for_diagnosis,
             ));
         }
         timings.solution = t0.elapsed();
