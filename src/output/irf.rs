@@ -88,9 +88,18 @@ pub fn text(r: &ImpulseResponses, title: Option<&str>, log: &[bool]) -> String {
         };
         out.push_str(&format!("\nResponses to {shock} ({size}) at period 0\n"));
         let mut t = Table::new(&header, &align);
+        // Values below 1e-12 of the table's largest are rounding noise of exact zeros.
+        let big = m.iter().fold(0.0f64, |a, v| a.max(v.abs()));
+        let show = |x: f64| {
+            if x.abs() <= 1e-12 * big {
+                number(0.0, 5)
+            } else {
+                number(x, 5)
+            }
+        };
         for h in 0..=r.horizon {
             let mut row = vec![h.to_string()];
-            row.extend((0..r.variables.len()).map(|j| number(m[(j, h)], 5)));
+            row.extend((0..r.variables.len()).map(|j| show(m[(j, h)])));
             t.row(row);
         }
         for l in t.render().lines() {

@@ -203,11 +203,13 @@ pub fn count_failure(
                 .fold(None::<f64>, |a, m| Some(a.map_or(m, |a| a.max(m))));
             let load = surplus
                 .map(|m| {
-                    let (r, l) = loadings(pencil, Some(m));
+                    // Only the right subspace: the left one of a surplus stable root mixes
+                    // every equation that feeds it and reads as noise.
+                    let (r, _) = loadings(pencil, Some(m));
                     loading_sentence(
                         &format!("The surplus stable direction (modulus {m:.4})"),
                         r,
-                        l,
+                        None,
                     )
                 })
                 .unwrap_or_default();

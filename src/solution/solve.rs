@@ -43,6 +43,14 @@ pub const RANK_TOL: f64 = 1e-10;
 /// Largest residual (relative to the size of the terms of each equation) the solution may leave in
 /// the linearized equations (issue 4).
 pub const PLUG_BACK_TOL: f64 = 1e-10;
+/// Relative size below which a computed quantity is rounding noise of an exact zero (about 4500
+/// machine epsilons: the backward error of a QZ-based solution is a modest multiple of epsilon
+/// times the pencil's norm, amplified by the condition of the blocks that are inverted).
+pub const ROUND_OFF: f64 = 1e-12;
+/// Entries of [P Q] and [G H] below this times the block's largest entry are set to exactly zero
+/// (64 machine epsilons: far below any meaningful coefficient, and it makes responses that are
+/// zero in exact arithmetic print as zero).
+pub const CLEAN_TOL: f64 = 64.0 * f64::EPSILON;
 /// Imaginary parts of the solution matrices above this (relative) mean the stable subspace was not
 /// closed under conjugation: a warning.
 pub const IMAGINARY_TOL: f64 = 1e-8;
@@ -473,6 +481,11 @@ fn roots_table(pairs: &[(C64, C64)], tau: f64, boundary_stable: bool) -> Vec<Roo
                 }
             } else {
                 let lambda = alpha / beta;
+                // Complex arithmetic leaves rounding-level imaginary parts on real roots (and
+                // rounding-level values on zero roots): below ROUND_OFF they are zero.
+                let size = lambda.norm().max(1.0);
+                let clean = |x: f64| if x.abs() <= ROUND_OFF * size { 0.0 } else { x };
+                let lambda = C64::new(clean(lambda.re), clean(lambda.im));
                 let modulus = lambda.norm();
                 Root {
                     re: lambda.re,
@@ -692,11 +705,26 @@ fn state_space(
             j + 1
         )));
     }
+    let mut g = gk.clone();
+    let mut h = hk.clone();
+    clean_pair(&mut p, &mut qm);
+    clean_pair(&mut g, &mut h);
     Ok(StateSpace {
         states: layout.state_names.clone(),
         p,
         q: qm,
-        g: gk.clone(),
-        h: hk.clone(),
+        g,
+        h,
     })
+}
+
+/// Sets entries of the pair below [`CLEAN_TOL`] times the pair's largest entry to zero.
+fn clean_pair(a: &mut DMatrix<f64>, b: &mut DMatrix<f64>) {
+    let big = a.iter().chain(b.iter()).fold(0.0f64, |m, v| m.max(v.abs()));
+    let tol = CLEAN_TOL * big;
+    for v in a.iter_mut().chain(b.iter_mut()) {
+        if v.abs() <= tol {
+            *v = 0.0;
+        }
+    }
 }
