@@ -100,7 +100,7 @@ fn generated(nb: usize, nf: usize, nm: usize, ns: usize, ne: usize) -> (Model, S
             max_lag: 0,
         });
     }
-    let shocks: Vec<Exogenous> = (0..ne)
+    let mut shocks: Vec<Exogenous> = (0..ne)
         .map(|i| Exogenous {
             name: format!("e{i}"),
             label: None,
@@ -132,10 +132,7 @@ fn generated(nb: usize, nf: usize, nm: usize, ns: usize, ne: usize) -> (Model, S
         rhs = add(rhs, mul(n(0.5), v(a0 + i % nb, 0)));
         rhs = add(rhs, mul(n(0.1), v(m0 + i % nm, 0)));
         let sk = s0 + 3 * (i % (ns / 3));
-        rhs = add(
-            rhs,
-            mul(n(0.05), call(Function::Ln, div(v(sk, 0), n(2.0)))),
-        );
+        rhs = add(rhs, mul(n(0.05), call(Function::Ln, div(v(sk, 0), n(2.0)))));
         eqs.push((v(f0 + i, 0), rhs));
     }
     for i in 0..nm {
@@ -170,8 +167,6 @@ fn generated(nb: usize, nf: usize, nm: usize, ns: usize, ne: usize) -> (Model, S
         eqs.push((v(s0 + k, 0), rhs));
     }
     // Leads and lags, as the front end records them.
-    let mut vars = vars;
-    let mut shocks = shocks;
     for (l, r) in &eqs {
         for side in [l, r] {
             side.walk(&mut |x| match x {
@@ -191,9 +186,14 @@ fn generated(nb: usize, nf: usize, nm: usize, ns: usize, ne: usize) -> (Model, S
             });
         }
     }
-    let mut text = String::from("title \"Generated archipelago: 500 islands (benchmark)\"\n\nendogenous\n");
+    let mut text =
+        String::from("title \"Generated archipelago: 500 islands (benchmark)\"\n\nendogenous\n");
     for x in &vars {
-        text.push_str(&format!("  {}{}\n", if x.log { "log " } else { "" }, x.name));
+        text.push_str(&format!(
+            "  {}{}\n",
+            if x.log { "log " } else { "" },
+            x.name
+        ));
     }
     text.push_str("\nexogenous\n");
     for s in &shocks {
@@ -302,9 +302,14 @@ fn ms(d: Duration) -> f64 {
 
 fn main() {
     let (model, text) = generated(75, 75, 50, 300, 40);
-    let path = std::path::Path::new(env!("CARGO_MANIFEST_DIR")).join("target/bench-solve-500.saddle");
+    let path =
+        std::path::Path::new(env!("CARGO_MANIFEST_DIR")).join("target/bench-solve-500.saddle");
     let _ = std::fs::write(&path, &text);
-    println!("== generated model: {} equations (written to {})", model.equations.len(), path.display());
+    println!(
+        "== generated model: {} equations (written to {})",
+        model.equations.len(),
+        path.display()
+    );
     for treatment in [StaticTreatment::Eliminate, StaticTreatment::Keep] {
         let mut best: Option<(Duration, saddle::solution::Timings, usize, f64)> = None;
         for _ in 0..3 {
@@ -316,7 +321,12 @@ fn main() {
                 .solve_detailed(&model, &SolveOptions::default())
                 .expect("solve");
             let wall = t0.elapsed();
-            assert_eq!(d.solved.status, Status::Determinate, "{:?}", d.solved.diagnosis);
+            assert_eq!(
+                d.solved.status,
+                Status::Determinate,
+                "{:?}",
+                d.solved.diagnosis
+            );
             let resid = d.max_residual.unwrap_or(f64::NAN);
             if best.as_ref().is_none_or(|b| wall < b.0) {
                 best = Some((wall, d.timings, d.pencil.dim(), resid));
@@ -336,7 +346,9 @@ fn main() {
     println!("== sweep: three-equation economy, 10,000 solves, phi_pi in [0.5, 3]");
     let base = harbour([0.99, 1.5, 0.1717, 1.6, 0.2, 0.6]);
     let prepared = PreparedModel::new(&base).expect("prepare");
-    let grid: Vec<f64> = (0..10_000).map(|i| 0.5 + 2.5 * i as f64 / 9_999.0).collect();
+    let grid: Vec<f64> = (0..10_000)
+        .map(|i| 0.5 + 2.5 * i as f64 / 9_999.0)
+        .collect();
     let pool = rayon::ThreadPoolBuilder::new()
         .num_threads(2)
         .build()

@@ -115,7 +115,9 @@ fn hostile_files_through_the_binary() {
         ),
         (
             "random.bin",
-            (0..4096u32).map(|i| (i.wrapping_mul(2_654_435_761) >> 13) as u8).collect(),
+            (0..4096u32)
+                .map(|i| (i.wrapping_mul(2_654_435_761) >> 13) as u8)
+                .collect(),
             "not a text model file",
         ),
     ];

@@ -177,7 +177,7 @@ pub fn csv(s: &SolvedModel) -> String {
 pub fn combination(terms: &[(f64, &str)]) -> String {
     let mut out = String::new();
     for &(c, name) in terms {
-        if !(c.abs() >= PRINT_ZERO) {
+        if c.abs() < PRINT_ZERO {
             continue;
         }
         let mag = if (c.abs() - 1.0).abs() <= 1e-12 {

@@ -59,11 +59,12 @@ pub fn plug_back_detailed(linear: &LinearSystem, layout: &Layout, space: &StateS
         row.iter_mut().for_each(|v| *v = 0.0);
         let j = t.variable;
         if t.offset == 0 {
-            for c in 0..nk {
-                row[c] = space.p[(j, c)];
-            }
-            for c in 0..ne {
-                row[nk + c] = space.q[(j, c)];
+            for (c, r) in row.iter_mut().enumerate() {
+                *r = if c < nk {
+                    space.p[(j, c)]
+                } else {
+                    space.q[(j, c - nk)]
+                };
             }
         } else if t.offset > 0 {
             let m = &gh[t.offset as usize - 1];

@@ -123,7 +123,7 @@ fn shares(
             None => by_name.push((base, w)),
         }
     }
-    if !(total > 0.0) {
+    if total.is_nan() || total <= 0.0 {
         return None;
     }
     by_name.sort_by(|a, b| b.1.partial_cmp(&a.1).unwrap_or(std::cmp::Ordering::Equal));

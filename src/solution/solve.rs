@@ -352,7 +352,7 @@ impl PreparedModel {
                     }
                     let space = state_space(&self.layout, &pencil, &n, &m, &gk, &hk)?;
                     let resid = super::check::plug_back(&linear, &self.layout, &space);
-                    if !(resid <= PLUG_BACK_TOL) {
+                    if resid.is_nan() || resid > PLUG_BACK_TOL {
                         warnings.push(format!(
                             "the solution leaves a relative residual of {resid:.1e} in the linearized equations (above {PLUG_BACK_TOL:e}); the results may be inaccurate because the system is badly conditioned"
                         ));
@@ -605,7 +605,7 @@ fn decision_rule(
     if nk > 0 {
         let sv = zk1.clone().singular_values();
         let sigma = sv.iter().copied().fold(f64::INFINITY, f64::min);
-        if !(sigma >= RANK_TOL) {
+        if sigma.is_nan() || sigma < RANK_TOL {
             return Ok(RuleOutcome::RankFailure { sigma });
         }
     }
@@ -655,16 +655,16 @@ fn state_space(
     let mut p = DMatrix::<f64>::zeros(nv, nk);
     let mut qm = DMatrix::<f64>::zeros(nv, ne);
     let mut done = vec![false; nv];
-    for j in 0..nv {
+    for (j, done_j) in done.iter_mut().enumerate() {
         if let Some(x) = pencil.forward_index(j, 0) {
             let r = x - nk;
             p.row_mut(j).copy_from(&n.row(r));
             qm.row_mut(j).copy_from(&m.row(r));
-            done[j] = true;
+            *done_j = true;
         } else if let Some(s) = layout.state_of_variable(j, 1) {
             p.row_mut(j).copy_from(&gk.row(s));
             qm.row_mut(j).copy_from(&hk.row(s));
-            done[j] = true;
+            *done_j = true;
         }
     }
     if let Some(st) = &pencil.statics {

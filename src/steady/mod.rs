@@ -418,7 +418,7 @@ fn newton_step(jac: &DMatrix<f64>, r: &DVector<f64>) -> Option<DVector<f64>> {
     let diag: Vec<f64> = u.diagonal().iter().map(|v| v.abs()).collect();
     let big = diag.iter().copied().fold(0.0, f64::max);
     let small = diag.iter().copied().fold(f64::INFINITY, f64::min);
-    if !(big > 0.0) || small < SINGULAR_PIVOT_RATIO * big {
+    if big.is_nan() || big <= 0.0 || small < SINGULAR_PIVOT_RATIO * big {
         return None;
     }
     lu.solve(&(-r))
@@ -429,7 +429,7 @@ fn newton_step(jac: &DMatrix<f64>, r: &DVector<f64>) -> Option<DVector<f64>> {
 fn lm_step(jac: &DMatrix<f64>, r: &DVector<f64>) -> Option<DVector<f64>> {
     let jtj = jac.transpose() * jac;
     let scale = jtj.iter().fold(0.0f64, |a, v| a.max(v.abs()));
-    if !(scale > 0.0) {
+    if scale.is_nan() || scale <= 0.0 {
         return None;
     }
     let mut m = jtj;

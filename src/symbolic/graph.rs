@@ -112,8 +112,8 @@ impl Graph {
     pub fn add(&mut self, a: NodeId, b: NodeId) -> NodeId {
         match (self.as_const(a), self.as_const(b)) {
             (Some(x), Some(y)) => return self.constant(x + y),
-            (Some(x), None) if x == 0.0 => return b,
-            (None, Some(y)) if y == 0.0 => return a,
+            (Some(0.0), None) => return b,
+            (None, Some(0.0)) => return a,
             _ => {}
         }
         if let Node::Neg(nb) = self.node(b) {
@@ -129,8 +129,8 @@ impl Graph {
         }
         match (self.as_const(a), self.as_const(b)) {
             (Some(x), Some(y)) => return self.constant(x - y),
-            (Some(x), None) if x == 0.0 => return self.neg(b),
-            (None, Some(y)) if y == 0.0 => return a,
+            (Some(0.0), None) => return self.neg(b),
+            (None, Some(0.0)) => return a,
             _ => {}
         }
         if let Node::Neg(nb) = self.node(b) {
@@ -142,12 +142,12 @@ impl Graph {
     pub fn mul(&mut self, a: NodeId, b: NodeId) -> NodeId {
         match (self.as_const(a), self.as_const(b)) {
             (Some(x), Some(y)) => return self.constant(x * y),
-            (Some(x), _) if x == 0.0 => return a,
-            (_, Some(y)) if y == 0.0 => return b,
-            (Some(x), _) if x == 1.0 => return b,
-            (_, Some(y)) if y == 1.0 => return a,
-            (Some(x), _) if x == -1.0 => return self.neg(b),
-            (_, Some(y)) if y == -1.0 => return self.neg(a),
+            (Some(0.0), _) => return a,
+            (_, Some(0.0)) => return b,
+            (Some(1.0), _) => return b,
+            (_, Some(1.0)) => return a,
+            (Some(-1.0), _) => return self.neg(b),
+            (_, Some(-1.0)) => return self.neg(a),
             _ => {}
         }
         // Pull negations out so that -a * b and a * -b share one node.
@@ -166,9 +166,9 @@ impl Graph {
     pub fn div(&mut self, a: NodeId, b: NodeId) -> NodeId {
         match (self.as_const(a), self.as_const(b)) {
             (Some(x), Some(y)) if y != 0.0 => return self.constant(x / y),
-            (Some(x), _) if x == 0.0 => return a,
-            (_, Some(y)) if y == 1.0 => return a,
-            (_, Some(y)) if y == -1.0 => return self.neg(a),
+            (Some(0.0), _) => return a,
+            (_, Some(1.0)) => return a,
+            (_, Some(-1.0)) => return self.neg(a),
             _ => {}
         }
         if a == b {
@@ -180,8 +180,8 @@ impl Graph {
     pub fn pow(&mut self, a: NodeId, b: NodeId) -> NodeId {
         match (self.as_const(a), self.as_const(b)) {
             (Some(x), Some(y)) => return self.constant(crate::model::expr::pow(x, y)),
-            (_, Some(y)) if y == 1.0 => return a,
-            (_, Some(y)) if y == 0.0 => return self.constant(1.0),
+            (_, Some(1.0)) => return a,
+            (_, Some(0.0)) => return self.constant(1.0),
             _ => {}
         }
         self.intern(Node::Pow(a, b))

@@ -159,7 +159,7 @@ mod tests {
         // r(x) = exp(x) * ln(x) + sqrt(x)^3 / log10(x+2) - normcdf(x) + normpdf(x) * x^x
         //        + abs(x - 3) + max(x, 2) * min(x, 1)
         let x0 = var(0, 0);
-        let terms = vec![
+        let terms = [
             bin(
                 BinaryOp::Mul,
                 Expr::Call(Function::Exp, Box::new(x0.clone())),
