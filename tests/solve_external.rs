@@ -245,3 +245,22 @@ fn demo_models_solve_with_small_residuals() {
         );
     }
 }
+
+#[test]
+fn static_and_shockless_models_solve() {
+    // Purely static: y = 2 e, w = y^2 + 1 (nonlinear, steady state w = 1). No dynamics at all.
+    let m = model("endogenous\n y, w\nexogenous\n e\nequations\n y = 2 * e\n w = y^2 + 1\n");
+    let s = solve(&m, &SolveOptions::default()).unwrap();
+    assert_eq!(s.status, Status::Determinate);
+    assert!(s.roots.is_empty());
+    let x = s.solution.unwrap();
+    assert!(x.states.is_empty());
+    assert!((x.q[(0, 0)] - 2.0).abs() < 1e-15 && x.q[(1, 0)].abs() < 1e-15);
+    assert!((s.steady_state[1] - 1.0).abs() < 1e-14);
+    // No innovations: a deterministic saddle path.
+    let m =
+        model("endogenous\n k, q\nequations\n k = 0.5 * k[t-1] + 0.1 * q\n q = 0.5 * q[t+1] + k\n");
+    let s = solve(&m, &SolveOptions::default()).unwrap();
+    assert_eq!(s.status, Status::Determinate);
+    assert_eq!(s.solution.unwrap().q.ncols(), 0);
+}

@@ -14,6 +14,10 @@ use crate::solution::{SolvedModel, Status};
 /// bounds memory at variables * horizon * 8 bytes per shock).
 pub const MAX_HORIZON: usize = 100_000;
 
+/// Most response values computed in one call (shocks x variables x periods): 2e7 values are
+/// 160 MB, beyond which the request is a mistake rather than an analysis.
+pub const MAX_VALUES: usize = 20_000_000;
+
 /// The size of the impulse.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 pub enum ImpulseSize {
@@ -57,6 +61,8 @@ pub enum IrfError {
     UnknownShock(usize),
     #[error("the horizon {0} is above the limit of {MAX_HORIZON} periods")]
     HorizonTooLong(usize),
+    #[error("{0} response values were asked for (shocks x variables x periods), above the limit of {MAX_VALUES}; ask for fewer shocks or a shorter horizon")]
+    TooMany(usize),
     #[error("the standard deviation of {shock} is not a finite non-negative number ({value})")]
     BadSd { shock: String, value: f64 },
 }
@@ -81,6 +87,13 @@ pub fn impulse_responses(
     let all: Vec<usize> = (0..solved.shocks.len()).collect();
     let shocks = if shocks.is_empty() { &all[..] } else { shocks };
     let nv = space.p.nrows();
+    let values = shocks
+        .len()
+        .saturating_mul(nv.max(1))
+        .saturating_mul(horizon + 1);
+    if values > MAX_VALUES {
+        return Err(IrfError::TooMany(values));
+    }
     let mut responses = Vec::with_capacity(shocks.len());
     let mut impulse = Vec::with_capacity(shocks.len());
     let mut names = Vec::with_capacity(shocks.len());

@@ -51,6 +51,12 @@ pub const ROUND_OFF: f64 = 1e-12;
 /// (64 machine epsilons: far below any meaningful coefficient, and it makes responses that are
 /// zero in exact arithmetic print as zero).
 pub const CLEAN_TOL: f64 = 64.0 * f64::EPSILON;
+/// Largest number of equations solved (the steady-state Newton and the canonical form use dense
+/// matrices: 4000^2 doubles are 128 MB each).
+pub const MAX_EQUATIONS: usize = 4000;
+/// Largest pencil dimension handed to the QZ (complex 2000 x 2000 factors are 64 MB each, four
+/// of them, and the QZ's cubic cost is minutes beyond that on the project's machine).
+pub const MAX_PENCIL_DIM: usize = 2000;
 /// Imaginary parts of the solution matrices above this (relative) mean the stable subspace was not
 /// closed under conjugation: a warning.
 pub const IMAGINARY_TOL: f64 = 1e-8;
@@ -145,6 +151,12 @@ pub enum SolveError {
     StructureMismatch(String),
     #[error("the linearized system is singular: det(B - zA) vanishes for every z, so the equations do not determine the variables (an equation may repeat another, or a variable may drop out at the steady state). Check the equations that involve {involved}")]
     SingularPencil { involved: String },
+    #[error("{what} is {size}, above saddle's limit of {limit} for its dense solver")]
+    TooLarge {
+        what: &'static str,
+        size: usize,
+        limit: usize,
+    },
     #[error("the QZ decomposition failed: {0}")]
     Qz(QzError),
     #[error("the solution could not be computed: {0}")]
@@ -240,6 +252,13 @@ impl PreparedModel {
                 self.n_parameters
             )));
         }
+        if model.equations.len() > MAX_EQUATIONS {
+            return Err(SolveError::TooLarge {
+                what: "the number of equations",
+                size: model.equations.len(),
+                limit: MAX_EQUATIONS,
+            });
+        }
         let mut timings = Timings {
             derivatives: self.derivative_time,
             ..Timings::default()
@@ -262,6 +281,14 @@ impl PreparedModel {
         timings.linearization = t0.elapsed();
 
         let t0 = Instant::now();
+        let smallest = self.layout.states.len() + self.layout.forward.len();
+        if smallest > MAX_PENCIL_DIM {
+            return Err(SolveError::TooLarge {
+                what: "the dimension of the canonical form",
+                size: smallest,
+                limit: MAX_PENCIL_DIM,
+            });
+        }
         let pencil = build_pencil(&self.layout, &linear, self.static_treatment)?;
         timings.canonical_form = t0.elapsed();
 
@@ -288,6 +315,13 @@ impl PreparedModel {
 
         let t0 = Instant::now();
         let dim = pencil.dim();
+        if dim > MAX_PENCIL_DIM {
+            return Err(SolveError::TooLarge {
+                what: "the dimension of the canonical form",
+                size: dim,
+                limit: MAX_PENCIL_DIM,
+            });
+        }
         let nk = pencil.n_predetermined;
         let mut schur = if dim > 0 {
             Some(
