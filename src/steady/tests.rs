@@ -1,0 +1,202 @@
+use super::*;
+use crate::model::SteadyItem;
+use crate::symbolic::testing::*;
+
+fn growth_model() -> Model {
+    // Brock and Mirman 1972 (JET 4), log utility, Cobb-Douglas, full depreciation:
+    //   1/c = beta * alpha * exp(z[t+1]) * k^(alpha-1) / c[t+1]
+    //   c + k = exp(z) * k[t-1]^alpha
+    //   z = rho * z[t-1] + e
+    // k, c in logs; z in levels.
+    let (alpha, beta) = (p(0), p(1));
+    model(
+        &[("k", true), ("c", true), ("z", false)],
+        &["e"],
+        &[("alpha", 0.33), ("beta", 0.96), ("rho", 0.9)],
+        vec![
+            (
+                div(n(1.0), v(1, 0)),
+                div(
+                    mul(
+                        mul(
+                            mul(beta.clone(), alpha.clone()),
+                            Expr::Call(crate::model::Function::Exp, Box::new(v(2, 1))),
+                        ),
+                        pow(v(0, 0), sub(alpha.clone(), n(1.0))),
+                    ),
+                    v(1, 1),
+                ),
+            ),
+            (
+                add(v(1, 0), v(0, 0)),
+                mul(
+                    Expr::Call(crate::model::Function::Exp, Box::new(v(2, 0))),
+                    pow(v(0, -1), alpha),
+                ),
+            ),
+            (v(2, 0), add(mul(p(2), v(2, -1)), e(0, 0))),
+        ],
+        vec![],
+    )
+}
+
+#[test]
+fn growth_model_steady_state_matches_closed_form() {
+    // Brock and Mirman 1972: k = (alpha*beta)^(1/(1-alpha)), c = k^alpha - k.
+    let m = growth_model();
+    let c = CompiledModel::new(&m);
+    assert!(!c.is_linear);
+    let params: Vec<f64> = m.parameters.iter().map(|p| p.value).collect();
+    let ss = solve_steady(&m, &c, &params).unwrap();
+    let k = (0.33f64 * 0.96).powf(1.0 / (1.0 - 0.33));
+    assert!((ss.values[0] - k).abs() < 1e-12 * k, "{:?}", ss);
+    assert!((ss.values[1] - (k.powf(0.33) - k)).abs() < 1e-12);
+    assert!(ss.values[2].abs() < 1e-14);
+    assert!(ss.iterations > 0 && ss.iterations < 30);
+}
+
+#[test]
+fn linear_model_takes_one_newton_step() {
+    // x = 0.5 x[t-1] + 2  =>  x = 4;  y = x + 1 => y = 5.
+    let m = model(
+        &[("x", false), ("y", false)],
+        &[],
+        &[],
+        vec![
+            (v(0, 0), add(mul(n(0.5), v(0, -1)), n(2.0))),
+            (v(1, 0), add(v(0, 0), n(1.0))),
+        ],
+        vec![],
+    );
+    let c = CompiledModel::new(&m);
+    assert!(c.is_linear);
+    let ss = solve_steady(&m, &c, &[]).unwrap();
+    assert_eq!(ss.iterations, 1);
+    assert!((ss.values[0] - 4.0).abs() < 1e-14 && (ss.values[1] - 5.0).abs() < 1e-14);
+}
+
+#[test]
+fn known_values_are_checked_and_failures_named() {
+    let mut m = model(
+        &[("x", false), ("y", false)],
+        &[],
+        &[("a", 2.0)],
+        vec![(v(0, 0), p(0)), (v(1, 0), mul(n(3.0), v(0, 0)))],
+        vec![],
+    );
+    m.equations[1].label = Some("triple".into());
+    m.steady = vec![
+        SteadyItem {
+            kind: SteadyKind::Known,
+            variable: 0,
+            expr: p(0),
+        },
+        SteadyItem {
+            kind: SteadyKind::Known,
+            variable: 1,
+            expr: add(Expr::SteadyState(0), n(1.0)),
+        },
+    ];
+    let c = CompiledModel::new(&m);
+    let err = solve_steady(&m, &c, &[2.0]).unwrap_err();
+    let msg = err.to_string();
+    assert!(
+        matches!(err, SteadyError::KnownValuesInconsistent(_)),
+        "{msg}"
+    );
+    assert!(
+        msg.contains("triple") && !msg.contains("equation 1 "),
+        "{msg}"
+    );
+    // With the right value (depending on x's, listed after it: order-free), it passes.
+    m.steady[1].expr = mul(n(3.0), Expr::SteadyState(0));
+    m.steady.swap(0, 1);
+    let ss = solve_steady(&m, &c, &[2.0]).unwrap();
+    assert_eq!(ss.values, vec![2.0, 6.0]);
+    assert_eq!(ss.iterations, 0);
+}
+
+#[test]
+fn domain_error_at_the_guess_is_named() {
+    // ln(x) = 0 with x in levels and a negative guess.
+    let mut m = model(
+        &[("x", false)],
+        &[],
+        &[],
+        vec![(ln(v(0, 0)), n(0.0))],
+        vec![],
+    );
+    m.steady = vec![SteadyItem {
+        kind: SteadyKind::Guess,
+        variable: 0,
+        expr: n(-2.0),
+    }];
+    let c = CompiledModel::new(&m);
+    let err = solve_steady(&m, &c, &[]).unwrap_err();
+    let msg = err.to_string();
+    assert!(msg.contains("ln of -2") && msg.contains("x = -2"), "{msg}");
+}
+
+#[test]
+fn singular_jacobian_is_reported_with_the_variables() {
+    // x + y = 1 and 2x + 2y = 2: a line of steady states.
+    let m = model(
+        &[("x", false), ("y", false), ("w", false)],
+        &[],
+        &[],
+        vec![
+            (add(v(0, 0), v(1, 0)), n(1.0)),
+            (mul(n(2.0), add(v(0, 0), v(1, 0))), n(2.0)),
+            (v(2, 0), n(3.0)),
+        ],
+        vec![],
+    );
+    let c = CompiledModel::new(&m);
+    let err = solve_steady(&m, &c, &[]).unwrap_err();
+    let msg = err.to_string();
+    assert!(matches!(err, SteadyError::Singular(_)), "{msg}");
+    assert!(
+        msg.contains("pin down x, y") || msg.contains("pin down y, x"),
+        "{msg}"
+    );
+}
+
+#[test]
+fn no_solution_reports_residuals_iterations_and_hint() {
+    // x^2 + 1 = 0 has no real solution.
+    let mut m = model(
+        &[("x", false)],
+        &[],
+        &[],
+        vec![(add(pow(v(0, 0), n(2.0)), n(1.0)), n(0.0))],
+        vec![],
+    );
+    m.steady = vec![SteadyItem {
+        kind: SteadyKind::Guess,
+        variable: 0,
+        expr: n(1.0),
+    }];
+    let c = CompiledModel::new(&m);
+    let err = solve_steady(&m, &c, &[]).unwrap_err();
+    let msg = err.to_string();
+    assert!(
+        msg.contains("equation 1") && msg.contains("involves x"),
+        "{msg}"
+    );
+    assert!(msg.contains("guess"), "{msg}");
+}
+
+#[test]
+fn log_variables_need_positive_values() {
+    let mut m = model(&[("k", true)], &[], &[], vec![(v(0, 0), n(2.0))], vec![]);
+    m.steady = vec![SteadyItem {
+        kind: SteadyKind::Guess,
+        variable: 0,
+        expr: n(-1.0),
+    }];
+    let c = CompiledModel::new(&m);
+    let msg = solve_steady(&m, &c, &[]).unwrap_err().to_string();
+    assert!(msg.contains("positive"), "{msg}");
+    m.steady.clear();
+    assert!((solve_steady(&m, &c, &[]).unwrap().values[0] - 2.0).abs() < 1e-13);
+}
