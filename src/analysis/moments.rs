@@ -367,7 +367,7 @@ pub fn moments(
             frobenius_c(&r) / denom
         }
     };
-    if !(lyapunov_residual <= RESIDUAL_TOL) {
+    if lyapunov_residual.is_nan() || lyapunov_residual > RESIDUAL_TOL {
         return Err(MomentsError::Lyapunov(LyapunovError::NoConvergence {
             schur_residual: lyapunov_residual,
             doubling_residual: f64::NAN,

@@ -86,9 +86,10 @@ pub fn chacha_key(seed: u64) -> [u8; 32] {
 }
 
 /// ln 2 split so that k * LN2_HI is exact for |k| < 2^11 (the classic Cody-Waite split; the
-/// values are those of fdlibm's e_log.c, which is common practice).
-const LN2_HI: f64 = 6.931_471_803_691_238_164_9e-01;
-const LN2_LO: f64 = 1.908_214_929_270_587_700_02e-10;
+/// bit patterns are those of fdlibm's e_log.c, 6.93147180369123816490e-01 and
+/// 1.90821492927058770002e-10; common practice).
+const LN2_HI: f64 = f64::from_bits(0x3fe6_2e42_fee0_0000);
+const LN2_LO: f64 = f64::from_bits(0x3dea_39ef_3579_3c76);
 
 /// Natural logarithm of a positive finite `x` from correctly rounded operations only, hence
 /// bit-identical on every IEEE-754 platform: x = 2^k m with m in [sqrt(1/2), sqrt(2)), and
