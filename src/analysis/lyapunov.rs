@@ -220,6 +220,261 @@ impl ComplexSchur {
     }
 }
 
+/// A real Schur decomposition G = Q T Q': Q orthogonal, T quasi-upper-triangular with 1 x 1
+/// blocks (real eigenvalues) and 2 x 2 blocks (complex pairs) on the diagonal.
+#[derive(Debug, Clone, PartialEq)]
+pub struct RealSchur {
+    pub q: DMatrix<f64>,
+    pub t: DMatrix<f64>,
+    /// The diagonal blocks as (first index, size 1 or 2), in order.
+    pub blocks: Vec<(usize, usize)>,
+}
+
+impl RealSchur {
+    /// Decomposes the real square matrix `g` (not overwritten): entries of T below the
+    /// subdiagonal and negligible subdiagonal entries are set to exact zeros. Errors if the QR
+    /// iteration does not converge or `g` has a non-finite entry.
+    pub fn new(g: &DMatrix<f64>) -> Result<Self, LyapunovError> {
+        let n = g.nrows();
+        if g.ncols() != n {
+            return Err(LyapunovError::Shape {
+                g_rows: n,
+                g_cols: g.ncols(),
+                w_rows: n,
+                w_cols: n,
+            });
+        }
+        if n > MAX_DIMENSION {
+            return Err(LyapunovError::TooLarge { n });
+        }
+        if g.iter().any(|v| !v.is_finite()) {
+            return Err(LyapunovError::NonFinite);
+        }
+        let schur =
+            nalgebra::Schur::try_new(g.clone(), SCHUR_EPS, SCHUR_MAX_SWEEPS_PER_DIM * n.max(1))
+                .ok_or(LyapunovError::SchurNoConvergence)?;
+        let (q, mut t) = schur.unpack();
+        if q.iter().chain(t.iter()).any(|v| !v.is_finite()) {
+            return Err(LyapunovError::SchurNoConvergence);
+        }
+        let negligible = 1e3 * SCHUR_EPS * t.norm().max(f64::MIN_POSITIVE);
+        for j in 0..n {
+            for i in (j + 2)..n {
+                if t[(i, j)].abs() > negligible {
+                    return Err(LyapunovError::SchurNoConvergence);
+                }
+                t[(i, j)] = 0.0;
+            }
+        }
+        let mut blocks = Vec::new();
+        let mut k = 0;
+        while k < n {
+            if k + 1 < n && t[(k + 1, k)].abs() > negligible {
+                if k + 2 < n && t[(k + 2, k + 1)].abs() > negligible {
+                    return Err(LyapunovError::SchurNoConvergence);
+                }
+                blocks.push((k, 2));
+                k += 2;
+            } else {
+                if k + 1 < n {
+                    t[(k + 1, k)] = 0.0;
+                }
+                blocks.push((k, 1));
+                k += 1;
+            }
+        }
+        Ok(RealSchur { q, t, blocks })
+    }
+
+    /// The eigenvalues, block by block (a 2 x 2 block gives its pair).
+    pub fn eigenvalues(&self) -> Vec<C64> {
+        let mut out = Vec::with_capacity(self.t.nrows());
+        for &(k, size) in &self.blocks {
+            if size == 1 {
+                out.push(C64::new(self.t[(k, k)], 0.0));
+            } else {
+                let (a, b, c, d) = (
+                    self.t[(k, k)],
+                    self.t[(k, k + 1)],
+                    self.t[(k + 1, k)],
+                    self.t[(k + 1, k + 1)],
+                );
+                let half = C64::new((a + d) * 0.5, 0.0);
+                let disc = C64::new(((a - d) * 0.5).powi(2) + b * c, 0.0).sqrt();
+                out.push(half + disc);
+                out.push(half - disc);
+            }
+        }
+        out
+    }
+
+    /// Largest eigenvalue modulus.
+    pub fn spectral_radius(&self) -> f64 {
+        self.eigenvalues()
+            .iter()
+            .map(|z| z.norm())
+            .fold(0.0, f64::max)
+    }
+}
+
+/// Solves the small Stein equation X - A X B' = F for X (q x p, q, p in {1, 2}) through its
+/// Kronecker form (I - B kron A) vec X = vec F, Gaussian elimination with partial pivoting.
+/// `a` is q x q and `b` p x p, both column-major slices; `f` is vec F, overwritten by vec X.
+fn small_stein(
+    a: &[f64],
+    q: usize,
+    b: &[f64],
+    p: usize,
+    f: &mut [f64],
+) -> Result<(), LyapunovError> {
+    let m = q * p;
+    let mut mat = [[0.0f64; 4]; 4];
+    for bj in 0..p {
+        for ai in 0..q {
+            let row = ai + q * bj;
+            for bl in 0..p {
+                for ak in 0..q {
+                    let col = ak + q * bl;
+                    let kron = b[bj + p * bl] * a[ai + q * ak];
+                    mat[row][col] = if row == col { 1.0 } else { 0.0 } - kron;
+                }
+            }
+        }
+    }
+    for col in 0..m {
+        let piv = (col..m)
+            .max_by(|&x, &y| mat[x][col].abs().total_cmp(&mat[y][col].abs()))
+            .unwrap_or(col);
+        if mat[piv][col].abs() < SINGULARITY_TOL {
+            return Err(LyapunovError::Singular {
+                product: 1.0 - mat[piv][col].abs(),
+            });
+        }
+        mat.swap(col, piv);
+        f.swap(col, piv);
+        for r in (col + 1)..m {
+            let factor = mat[r][col] / mat[col][col];
+            if factor != 0.0 {
+                for c in col..m {
+                    mat[r][c] -= factor * mat[col][c];
+                }
+                f[r] -= factor * f[col];
+            }
+        }
+    }
+    for col in (0..m).rev() {
+        let mut v = f[col];
+        for c in (col + 1)..m {
+            v -= mat[col][c] * f[c];
+        }
+        f[col] = v / mat[col][col];
+    }
+    Ok(())
+}
+
+/// Solves Y = T Y T' + C for a real quasi-upper-triangular `t` with diagonal blocks `blocks`
+/// (from [`RealSchur`]) and any real `c` (n x n), by column blocks from the last (Barraud 1977 in
+/// real arithmetic): with R_J = sum_{L>J} Y[:, L] T[J, L]', the block column solves
+/// Y_J - T Y_J T_JJ' = C[:, J] + T R_J, itself by row blocks from the last with 1 x 1 to 4 x 4
+/// Kronecker systems. Reads `t` and `c`, overwrites nothing, returns Y (not symmetrized), or
+/// [`LyapunovError::Singular`].
+pub fn solve_quasi_triangular_stein(
+    t: &DMatrix<f64>,
+    blocks: &[(usize, usize)],
+    c: &DMatrix<f64>,
+) -> Result<DMatrix<f64>, LyapunovError> {
+    let n = t.nrows();
+    let ts = t.as_slice();
+    let mut y = vec![0.0; n * n];
+    let mut r = vec![0.0; 2 * n];
+    let mut b = vec![0.0; 2 * n];
+    for &(j0, p) in blocks.iter().rev() {
+        // R[:, jj] = sum_{l >= j0 + p} T[j0 + jj, l] Y[:, l]
+        r[..p * n].iter_mut().for_each(|v| *v = 0.0);
+        for l in (j0 + p)..n {
+            let col = &y[l * n..(l + 1) * n];
+            for jj in 0..p {
+                let w = ts[(j0 + jj) + l * n];
+                if w != 0.0 {
+                    let rc = &mut r[jj * n..(jj + 1) * n];
+                    for (ri, yi) in rc.iter_mut().zip(col) {
+                        *ri += w * yi;
+                    }
+                }
+            }
+        }
+        // B = C[:, J] + T R  (column k of T reaches rows 0..=k+1)
+        for jj in 0..p {
+            let bc = &mut b[jj * n..(jj + 1) * n];
+            bc.copy_from_slice(&c.as_slice()[(j0 + jj) * n..(j0 + jj + 1) * n]);
+            let rc = &r[jj * n..(jj + 1) * n];
+            for (k, &rk) in rc.iter().enumerate() {
+                if rk != 0.0 {
+                    let top = (k + 2).min(n);
+                    let tc = &ts[k * n..k * n + top];
+                    for (bi, ti) in bc[..top].iter_mut().zip(tc) {
+                        *bi += ti * rk;
+                    }
+                }
+            }
+        }
+        // T_JJ, column-major p x p.
+        let mut tjj = [0.0; 4];
+        for u in 0..p {
+            for v in 0..p {
+                tjj[u + p * v] = ts[(j0 + u) + (j0 + v) * n];
+            }
+        }
+        // Row blocks from the last: Y_IJ - T_II Y_IJ T_JJ' = B_I, then
+        // B[rows < i0] += T[rows < i0, I] (Y_IJ T_JJ').
+        for &(i0, q) in blocks.iter().rev() {
+            let mut tii = [0.0; 4];
+            for u in 0..q {
+                for v in 0..q {
+                    tii[u + q * v] = ts[(i0 + u) + (i0 + v) * n];
+                }
+            }
+            let mut f = [0.0; 4];
+            for jj in 0..p {
+                for ii in 0..q {
+                    f[ii + q * jj] = b[jj * n + i0 + ii];
+                }
+            }
+            small_stein(&tii[..q * q], q, &tjj[..p * p], p, &mut f[..q * p])?;
+            // Z = Y_IJ T_JJ' (q x p)
+            let mut z = [0.0; 4];
+            for ii in 0..q {
+                for jj in 0..p {
+                    let mut s = 0.0;
+                    for kk in 0..p {
+                        s += f[ii + q * kk] * tjj[jj + p * kk];
+                    }
+                    z[ii + q * jj] = s;
+                }
+            }
+            for jj in 0..p {
+                for ii in 0..q {
+                    b[jj * n + i0 + ii] = f[ii + q * jj];
+                }
+                for ii in 0..q {
+                    let zv = z[ii + q * jj];
+                    if zv != 0.0 {
+                        let tc = &ts[(i0 + ii) * n..(i0 + ii) * n + i0];
+                        let bc = &mut b[jj * n..jj * n + i0];
+                        for (bl, tl) in bc.iter_mut().zip(tc) {
+                            *bl += tl * zv;
+                        }
+                    }
+                }
+            }
+        }
+        for jj in 0..p {
+            y[(j0 + jj) * n..(j0 + jj + 1) * n].copy_from_slice(&b[jj * n..(jj + 1) * n]);
+        }
+    }
+    Ok(DMatrix::from_vec(n, n, y))
+}
+
 /// Triangularizes the 2 x 2 diagonal block of `t` at rows and columns k, k+1: with lambda an
 /// eigenvalue of the block [a b; c d] (c != 0) and v = (lambda - d, c)/norm its eigenvector, the
 /// unitary V = [v, (-conj v2, conj v1)] gives V^H B V = [lambda *; 0 mu]. Overwrites rows and
@@ -416,19 +671,15 @@ pub fn solve_discrete_lyapunov(
             relative_residual: 0.0,
         });
     }
-    let schur_residual = match ComplexSchur::new(g) {
+    let schur_residual = match RealSchur::new(g) {
         Ok(schur) => {
-            let radius = schur
-                .eigenvalues()
-                .iter()
-                .map(|z| z.norm())
-                .fold(0.0, f64::max);
+            let radius = schur.spectral_radius();
             if radius >= 1.0 {
                 return Err(LyapunovError::NotStable {
                     spectral_radius: radius,
                 });
             }
-            match solve_with_schur(&schur, w) {
+            match solve_with_real_schur(&schur, w) {
                 Ok(x) => {
                     let res = relative_residual(g, w, &x);
                     if res <= RESIDUAL_TOL {
@@ -462,6 +713,17 @@ pub fn solve_discrete_lyapunov(
             steps,
         })
     }
+}
+
+/// X = Q Y Q' with Y = T Y T' + Q' W Q in the real Schur basis, symmetrized. Reads only.
+pub fn solve_with_real_schur(
+    schur: &RealSchur,
+    w: &DMatrix<f64>,
+) -> Result<DMatrix<f64>, LyapunovError> {
+    let c = schur.q.transpose() * w * &schur.q;
+    let y = solve_quasi_triangular_stein(&schur.t, &schur.blocks, &c)?;
+    let x = &schur.q * y * schur.q.transpose();
+    Ok((&x + x.transpose()) * 0.5)
 }
 
 /// X = U Y U^H with Y = T Y T^H + U^H W U, real part, symmetrized. Reads only.

@@ -28,7 +28,8 @@ use nalgebra::DMatrix;
 use thiserror::Error;
 
 use super::lyapunov::{
-    cmul, frobenius_c, solve_triangular_stein, ComplexSchur, LyapunovError, C64, RESIDUAL_TOL,
+    cmul, frobenius_c, solve_quasi_triangular_stein, solve_triangular_stein, ComplexSchur,
+    LyapunovError, RealSchur, C64, RESIDUAL_TOL,
 };
 use crate::solution::{SolvedModel, StateSpace, Status};
 
@@ -262,7 +263,6 @@ pub fn moments(
     check_shapes(solved, ss)?;
     let ny = solved.variables.len();
     let ne = solved.shocks.len();
-    let ns = ss.g.nrows();
     let l = covariance_factor(&solved.covariance, &solved.shocks)?;
     let mut warnings = Vec::new();
     let correlated = (0..ne).any(|i| (0..i).any(|j| solved.covariance[(i, j)] != 0.0));
@@ -275,6 +275,203 @@ pub fn moments(
         ));
     }
 
+    let real = RealSchur::new(&ss.g)?;
+    let core = if real.spectral_radius() < 1.0 - UNIT_ROOT_TOL {
+        core_stationary(ss, &solved.covariance, &l, &real, lags)?
+    } else {
+        core_with_unit_roots(solved, ss, &l, lags)?
+    };
+    let Core {
+        stationary,
+        part,
+        var_full,
+        autocov,
+        residual: lyapunov_residual,
+        warnings: more,
+    } = core;
+    warnings.extend(more);
+
+    let mut covariance = var_full;
+    for i in 0..ny {
+        if !stationary[i] {
+            for k in 0..ny {
+                covariance[(i, k)] = f64::NAN;
+                covariance[(k, i)] = f64::NAN;
+            }
+        }
+    }
+    let max_var = (0..ny)
+        .filter(|&i| stationary[i])
+        .map(|i| covariance[(i, i)])
+        .fold(0.0, f64::max);
+    let positive: Vec<bool> = (0..ny)
+        .map(|i| stationary[i] && covariance[(i, i)] > ZERO_VARIANCE_RELTOL * max_var)
+        .collect();
+    let std: Vec<Option<f64>> = (0..ny)
+        .map(|i| stationary[i].then(|| covariance[(i, i)].max(0.0).sqrt()))
+        .collect();
+    let correlation = DMatrix::from_fn(ny, ny, |i, k| {
+        if positive[i] && positive[k] {
+            if i == k {
+                1.0
+            } else {
+                (covariance[(i, k)] / (covariance[(i, i)] * covariance[(k, k)]).sqrt())
+                    .clamp(-1.0, 1.0)
+            }
+        } else {
+            f64::NAN
+        }
+    });
+    let autocorrelation: Vec<Vec<f64>> = (0..ny)
+        .map(|i| {
+            autocov[i]
+                .iter()
+                .map(|c| {
+                    if positive[i] {
+                        c / covariance[(i, i)]
+                    } else {
+                        f64::NAN
+                    }
+                })
+                .collect()
+        })
+        .collect();
+
+    let variance_decomposition: Vec<Vec<f64>> = (0..ny)
+        .map(|i| {
+            let total: f64 = part.row(i).iter().sum();
+            (0..ne)
+                .map(|j| {
+                    if positive[i] && total > 0.0 {
+                        part[(i, j)] / total
+                    } else {
+                        f64::NAN
+                    }
+                })
+                .collect()
+        })
+        .collect();
+
+    let fevd = forecast_error_decomposition(ss, &l, horizons);
+    let nonstationary = (0..ny)
+        .filter(|&i| !stationary[i])
+        .map(|i| solved.variables[i].clone())
+        .collect();
+    Ok(Moments {
+        variables: solved.variables.clone(),
+        shocks: solved.shocks.clone(),
+        std,
+        covariance,
+        correlation,
+        autocorrelation,
+        variance_decomposition,
+        fevd,
+        nonstationary,
+        warnings,
+        lyapunov_residual,
+    })
+}
+
+/// What either computation path delivers to [`moments`].
+struct Core {
+    /// Per variable: its unconditional variance exists.
+    stationary: Vec<bool>,
+    /// Variance of variable i due to innovation j (orthogonalized by L), ny x ne.
+    part: DMatrix<f64>,
+    /// Var(y) (meaningful in the rows and columns of stationary variables).
+    var_full: DMatrix<f64>,
+    /// Per variable, autocovariances at lags 1..=L.
+    autocov: Vec<Vec<f64>>,
+    residual: f64,
+    warnings: Vec<String>,
+}
+
+/// The relative residual ||Y - T Y T' - C||_F / (||C||_F + ||T||_F^2 ||Y||_F) (0 if all zero).
+fn stein_residual_real(t: &DMatrix<f64>, y: &DMatrix<f64>, c: &DMatrix<f64>) -> f64 {
+    let r = y - t * y * t.transpose() - c;
+    let denom = c.norm() + t.norm().powi(2) * y.norm();
+    if denom == 0.0 {
+        0.0
+    } else {
+        r.norm() / denom
+    }
+}
+
+/// Every mode stable: real Schur basis G = U T U', per-innovation Y_j = T Y_j T' + b_j b_j'
+/// with b_j = U' H l_j, Var_j(y_i) = (P U Y_j U' P')_ii + (Q l_j)_i^2; autocovariances from
+/// S_1 = T Y U'P' + (U'H L) L'Q', S_k = T S_{k-1}, diag(P U S_k). Reads only.
+fn core_stationary(
+    ss: &StateSpace,
+    sigma: &DMatrix<f64>,
+    l: &DMatrix<f64>,
+    schur: &RealSchur,
+    lags: usize,
+) -> Result<Core, MomentsError> {
+    let ny = ss.p.nrows();
+    let ne = l.ncols();
+    let ns = ss.g.nrows();
+    let pu = &ss.p * &schur.q; // ny x ns
+    let uhl = schur.q.transpose() * (&ss.h * l); // ns x ne
+    let ql = &ss.q * l;
+    let mut part = DMatrix::<f64>::zeros(ny, ne);
+    let mut y_total = DMatrix::<f64>::zeros(ns, ns);
+    for j in 0..ne {
+        let b = uhl.column(j);
+        let c = &b * b.transpose();
+        let yj = solve_quasi_triangular_stein(&schur.t, &schur.blocks, &c)?;
+        let py = &pu * &yj;
+        for i in 0..ny {
+            let s = py.row(i).dot(&pu.row(i));
+            part[(i, j)] = s.max(0.0) + ql[(i, j)] * ql[(i, j)];
+        }
+        y_total += yj;
+    }
+    let y_total = (&y_total + y_total.transpose()) * 0.5;
+    let c_total = &uhl * uhl.transpose();
+    let residual = stein_residual_real(&schur.t, &y_total, &c_total);
+    if residual.is_nan() || residual > RESIDUAL_TOL {
+        return Err(MomentsError::Lyapunov(LyapunovError::NoConvergence {
+            schur_residual: residual,
+            doubling_residual: f64::NAN,
+            steps: 0,
+        }));
+    }
+    let v = &pu * &y_total * pu.transpose() + &ss.q * sigma * ss.q.transpose();
+    let var_full = (&v + v.transpose()) * 0.5;
+    let mut autocov = vec![Vec::with_capacity(lags); ny];
+    if lags > 0 {
+        let mut s =
+            &schur.t * (&y_total * pu.transpose()) + &uhl * (l.transpose() * ss.q.transpose());
+        for _ in 1..=lags {
+            for (i, a) in autocov.iter_mut().enumerate() {
+                a.push(pu.row(i).dot(&s.column(i).transpose()));
+            }
+            s = &schur.t * &s;
+        }
+    }
+    Ok(Core {
+        stationary: vec![true; ny],
+        part,
+        var_full,
+        autocov,
+        residual,
+        warnings: Vec::new(),
+    })
+}
+
+/// Some mode with |lambda| >= 1 - UNIT_ROOT_TOL: complex Schur basis reordered with the stable
+/// modes first, blocks decoupled by a Sylvester solve, non-stationary variables found by a Krylov
+/// test, and the moments of the rest computed from the stable block. Reads only.
+fn core_with_unit_roots(
+    solved: &SolvedModel,
+    ss: &StateSpace,
+    l: &DMatrix<f64>,
+    lags: usize,
+) -> Result<Core, MomentsError> {
+    let ny = solved.variables.len();
+    let ne = solved.shocks.len();
+    let ns = ss.g.nrows();
+    let mut warnings = Vec::new();
     // Complex Schur basis of G with the stable modes first.
     let mut schur = ComplexSchur::new(&ss.g)?;
     let n1 = schur.reorder_front(|z| z.norm() < 1.0 - UNIT_ROOT_TOL);
@@ -284,7 +481,7 @@ pub fn moments(
     let t22 = schur.t.view((n1, n1), (n2, n2)).into_owned();
     let z = solve_sylvester_upper(&t11, &t22, &(-t12))?;
     let pc = ss.p.map(|v| C64::new(v, 0.0));
-    let hl = &ss.h * &l;
+    let hl = &ss.h * l;
     let hlc = hl.map(|v| C64::new(v, 0.0));
     let pu = cmul(&pc, &schur.u);
     let uhl = cmul(&schur.u.adjoint(), &hlc);
@@ -339,7 +536,7 @@ pub fn moments(
 
     // Per-innovation stable-block covariances Y_j = T11 Y_j T11^H + b_j b_j^H.
     let qc = ss.q.map(|v| C64::new(v, 0.0));
-    let ql = &ss.q * &l;
+    let ql = &ss.q * l;
     let mut y_total = DMatrix::<C64>::zeros(n1, n1);
     let mut c_total = DMatrix::<C64>::zeros(n1, n1);
     let mut part = DMatrix::<f64>::zeros(ny, ne); // variance of y_i due to innovation j
@@ -380,40 +577,8 @@ pub fn moments(
             + &ss.q * sigma * ss.q.transpose();
         (&v + v.transpose()) * 0.5
     };
-    let mut covariance = var_full.clone();
-    for i in 0..ny {
-        if !stationary[i] {
-            for k in 0..ny {
-                covariance[(i, k)] = f64::NAN;
-                covariance[(k, i)] = f64::NAN;
-            }
-        }
-    }
-    let max_var = (0..ny)
-        .filter(|&i| stationary[i])
-        .map(|i| covariance[(i, i)])
-        .fold(0.0, f64::max);
-    let positive: Vec<bool> = (0..ny)
-        .map(|i| stationary[i] && covariance[(i, i)] > ZERO_VARIANCE_RELTOL * max_var)
-        .collect();
-    let std: Vec<Option<f64>> = (0..ny)
-        .map(|i| stationary[i].then(|| covariance[(i, i)].max(0.0).sqrt()))
-        .collect();
-    let correlation = DMatrix::from_fn(ny, ny, |i, k| {
-        if positive[i] && positive[k] {
-            if i == k {
-                1.0
-            } else {
-                (covariance[(i, k)] / (covariance[(i, i)] * covariance[(k, k)]).sqrt())
-                    .clamp(-1.0, 1.0)
-            }
-        } else {
-            f64::NAN
-        }
-    });
-
     // Autocovariances: S_1 = T11 Y C1^H + B1 Sigma_v Q', S_k = T11 S_{k-1}; diag(C1 S_k).
-    let mut autocorrelation = vec![Vec::with_capacity(lags); ny];
+    let mut autocov = vec![Vec::with_capacity(lags); ny];
     if lags > 0 {
         // With e = L u (Var u = I), E[v1_{t-1} e_{t-k}'] = T11^{k-1} B1 L' for k >= 1.
         let lt = l.transpose().map(|v| C64::new(v, 0.0));
@@ -421,53 +586,23 @@ pub fn moments(
             cmul(&t11, &cmul(&y_total, &c1.adjoint())) + cmul(&cmul(&b1, &lt), &qc.transpose());
         for _ in 1..=lags {
             for i in 0..ny {
-                let value = if positive[i] {
-                    let mut acc = 0.0;
-                    for a in 0..n1 {
-                        acc += (c1[(i, a)] * s[(a, i)]).re;
-                    }
-                    acc / covariance[(i, i)]
-                } else {
-                    f64::NAN
-                };
-                autocorrelation[i].push(value);
+                let mut acc = 0.0;
+                for a in 0..n1 {
+                    acc += (c1[(i, a)] * s[(a, i)]).re;
+                }
+                autocov[i].push(acc);
             }
             s = cmul(&t11, &s);
         }
     }
 
-    let variance_decomposition: Vec<Vec<f64>> = (0..ny)
-        .map(|i| {
-            let total: f64 = part.row(i).iter().sum();
-            (0..ne)
-                .map(|j| {
-                    if positive[i] && total > 0.0 {
-                        part[(i, j)] / total
-                    } else {
-                        f64::NAN
-                    }
-                })
-                .collect()
-        })
-        .collect();
-
-    let fevd = forecast_error_decomposition(ss, &l, horizons);
-    let nonstationary = (0..ny)
-        .filter(|&i| !stationary[i])
-        .map(|i| solved.variables[i].clone())
-        .collect();
-    Ok(Moments {
-        variables: solved.variables.clone(),
-        shocks: solved.shocks.clone(),
-        std,
-        covariance,
-        correlation,
-        autocorrelation,
-        variance_decomposition,
-        fevd,
-        nonstationary,
+    Ok(Core {
+        stationary,
+        part,
+        var_full,
+        autocov,
+        residual: lyapunov_residual,
         warnings,
-        lyapunov_residual,
     })
 }
 

