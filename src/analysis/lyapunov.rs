@@ -8,11 +8,15 @@
 //! s_t = G s_{t-1} + u_t with Var(u_t) = W.
 //!
 //! Primary method (Barraud 1977, "A numerical algorithm to solve A'XA - X = Q", IEEE Trans.
-//! Automatic Control 22; Kitagawa 1977, Int. J. Control 25): bring G to complex Schur form
-//! G = U T U^H (T upper triangular, U unitary), solve the triangular equation Y = T Y T^H + C with
-//! C = U^H W U column by column from the last, and return X = U Y U^H. Each column costs one
-//! triangular solve with the matrix I - conj(t_jj) T, so the whole solve is O(n^3). The complex
-//! Schur form avoids the 2 x 2 blocks of the real one at the price of complex arithmetic.
+//! Automatic Control 22; Kitagawa 1977, Int. J. Control 25): bring G to real Schur form
+//! G = Q T Q' (T quasi-upper-triangular: 1 x 1 blocks for real eigenvalues, 2 x 2 for complex
+//! pairs), solve Y = T Y T' + Q' W Q by block columns from the last, each block column a shifted
+//! quasi-triangular solve whose diagonal blocks are Kronecker systems of size at most 4, and
+//! return X = Q Y Q'. The whole solve is O(n^3) in real arithmetic.
+//!
+//! A complex variant ([`ComplexSchur`], [`solve_triangular_stein`]) works on a triangular T: the
+//! moments use it when unit roots must be reordered out of the way, which the real form with its
+//! 2 x 2 blocks makes awkward.
 //!
 //! Every solution is checked by its residual ||X - G X G' - W||_F relative to
 //! ||W||_F + ||G||_F^2 ||X||_F; if the Schur route fails (no convergence of the QR iteration or a
