@@ -448,3 +448,75 @@ fn static_model_without_states() {
     assert_eq!(mo.autocorrelation[0], vec![0.0, 0.0]);
     assert!((mo.variance_decomposition[0][1] - 0.8).abs() < 1e-12);
 }
+
+#[test]
+fn unit_root_path_agrees_with_the_stationary_path() {
+    // Appending a unit-root state that no innovation reaches (but that the variables load on)
+    // must leave every moment unchanged; the augmented system goes through the complex, reordered
+    // Schur path and the original through the real one.
+    for seed in 0..4u64 {
+        let base = random_system(5, 4, 2, 70 + seed, 0.9);
+        let ss = base.solution.as_ref().unwrap();
+        let mut g = DMatrix::zeros(5, 5);
+        g.view_mut((0, 0), (4, 4)).copy_from(&ss.g);
+        g[(4, 4)] = 1.0;
+        // The unit-root state feeds the stable ones (a coupling the Sylvester step must remove)
+        // but depends on nothing.
+        for k in 0..4 {
+            g[(4, k)] = 0.0;
+            g[(k, 4)] = 0.3;
+        }
+        // Row 4 of G is [0 0 0 0 1] and row 4 of H is zero: the state never moves from 0.
+        let mut h = DMatrix::zeros(5, 2);
+        h.view_mut((0, 0), (4, 2)).copy_from(&ss.h);
+        let mut p = DMatrix::zeros(5, 5);
+        p.view_mut((0, 0), (5, 4)).copy_from(&ss.p);
+        for i in 0..5 {
+            p[(i, 4)] = 0.7;
+        }
+        let mut aug = base.clone();
+        aug.solution = Some(StateSpace {
+            states: (0..5).map(|i| format!("s{i}[t-1]")).collect(),
+            p,
+            q: ss.q.clone(),
+            g,
+            h,
+        });
+        let a = moments(&base, 4, &[2, 9]).unwrap();
+        let b = moments(&aug, 4, &[2, 9]).unwrap();
+        assert!(b.nonstationary.is_empty());
+        assert!(b.warnings.iter().any(|w| w.contains("no variable loads")));
+        for i in 0..5 {
+            let (x, y) = (a.std[i].unwrap(), b.std[i].unwrap());
+            assert!((x - y).abs() < 1e-10 * x, "std {x} vs {y}");
+            for k in 0..4 {
+                assert!((a.autocorrelation[i][k] - b.autocorrelation[i][k]).abs() < 1e-10);
+            }
+            for j in 0..2 {
+                assert!(
+                    (a.variance_decomposition[i][j] - b.variance_decomposition[i][j]).abs() < 1e-10
+                );
+                for f in 0..2 {
+                    assert!((a.fevd[f].1[i][j] - b.fevd[f].1[i][j]).abs() < 1e-12);
+                }
+            }
+            for k in 0..5 {
+                assert!((a.correlation[(i, k)] - b.correlation[(i, k)]).abs() < 1e-10);
+            }
+        }
+    }
+}
+
+#[test]
+fn complex_schur_route_matches_kronecker() {
+    use saddle::analysis::lyapunov::{solve_with_schur, ComplexSchur};
+    for n in [2usize, 4, 7] {
+        let g = stable(n, 300 + n as u64, 0.95);
+        let b = lcg(n, n, 400 + n as u64, 1.0);
+        let w = &b * b.transpose();
+        let s = ComplexSchur::new(&g).unwrap();
+        let x = solve_with_schur(&s, &w).unwrap();
+        let xk = kronecker_solve(&g, &w);
+        assert!((&x - &xk).norm() / xk.norm() < 1e4 * f64::EPSILON * 10.3 * n as f64);
+    }
+}
