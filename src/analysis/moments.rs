@@ -1,1 +1,692 @@
-//! (under construction)
+//! Theoretical moments of the solved model
+//!
+//! ```text
+//!     y_t - ybar = P s_{t-1} + Q e_t,     s_t = G s_{t-1} + H e_t,     e_t ~ iid (0, Sigma)
+//! ```
+//!
+//! * Var(s) = X solves X = G X G' + H Sigma H' (discrete Lyapunov, [`super::lyapunov`]);
+//!   Var(y) = P X P' + Q Sigma Q' (s_{t-1} is independent of e_t).
+//! * Cov(y_t, y_{t-k}) = P G^k X P' + P G^{k-1} H Sigma Q' for k >= 1; the autocorrelation of
+//!   variable i at lag k is its diagonal entry over Var(y_i).
+//! * Variance decomposition by innovation: with Sigma = L L' (Cholesky, innovations in declaration
+//!   order), innovation j contributes the variance of the system driven by column l_j alone,
+//!   X_j = G X_j G' + H l_j l_j' H' and V_j = P X_j P' + Q l_j l_j' Q'; the V_j add up to Var(y).
+//!   With uncorrelated innovations L is diagonal and this is the plain split; with correlated ones
+//!   the common part is attributed to the innovation declared first (a convention, stated in the
+//!   warnings).
+//! * Forecast-error variance decomposition at horizon h: the h-step forecast error of y is
+//!   sum_{k=0}^{h-1} Psi_k e_{t+h-k} with Psi_0 = Q, Psi_k = P G^{k-1} H; innovation j's share is
+//!   sum_k (Psi_k l_j)_i^2 over the sum across j. As h grows it tends to the unconditional split.
+//!
+//! Unit and explosive roots: the work is done in the complex Schur basis of G, reordered so that
+//! the modes with |lambda| < 1 - [`UNIT_ROOT_TOL`] come first, and the two blocks decoupled by a
+//! triangular Sylvester solve. A variable whose variance does not exist is one that loads on the
+//! other modes through a direction the innovations reach (a Krylov test); it is named in
+//! [`Moments::nonstationary`], and every other variable gets its moments from the stable block.
+
+use nalgebra::DMatrix;
+use thiserror::Error;
+
+use super::lyapunov::{
+    cmul, frobenius_c, solve_quasi_triangular_stein, solve_triangular_stein, ComplexSchur,
+    LyapunovError, RealSchur, C64, RESIDUAL_TOL,
+};
+use crate::solution::{SolvedModel, StateSpace, Status};
+
+/// Modes with |lambda| >= 1 - UNIT_ROOT_TOL are treated as unit or explosive roots. The solver
+/// classifies roots against the threshold with a 1e-6 relative boundary tolerance, and a double
+/// unit root computed in floating point is perturbed by about sqrt(eps) ||G|| = 1.5e-8 ||G||; 1e-6
+/// covers both with a margin, at the price of calling a root of 0.9999995 a unit root (its
+/// variance would be a million times the innovation's, which nobody reads as stationary).
+pub const UNIT_ROOT_TOL: f64 = 1e-6;
+
+/// A variable loads on the non-stationary modes when some entry of its response along them
+/// exceeds this multiple of the norms involved. Exact zeros become about eps * (size of the
+/// Sylvester coupling) after the change of basis; 1e-9 sits far above that and far below any
+/// loading a model means to have.
+pub const LOADING_TOL: f64 = 1e-9;
+
+/// A variance at or below this multiple of the largest variance counts as zero: rounding leaves
+/// about eps^2 relative on a variance that should vanish, so std ratios below 1e-12 are noise.
+pub const ZERO_VARIANCE_RELTOL: f64 = 1e-24;
+
+/// Cholesky pivots whose magnitude is at most this multiple of the largest diagonal entry of the
+/// covariance count as zero (a degenerate innovation, or one that is an exact combination of
+/// those before it): 1e-12 is about 4500 eps, room for the rounding of a covariance built from
+/// standard deviations and correlations.
+pub const PIVOT_TOL: f64 = 1e-12;
+
+/// Largest autocorrelation lag accepted.
+pub const MAX_LAGS: usize = 10_000;
+/// Largest FEVD horizon accepted.
+pub const MAX_HORIZON: usize = 100_000;
+
+/// Why the covariance of the innovations could not be factored.
+#[derive(Debug, Clone, PartialEq, Error)]
+pub enum CovarianceError {
+    #[error("the innovation covariance is {rows}x{cols}, but the model has {shocks} innovations")]
+    Shape {
+        rows: usize,
+        cols: usize,
+        shocks: usize,
+    },
+    #[error("the innovation covariance has a non-finite entry for `{shock}`")]
+    NonFinite { shock: String },
+    #[error("the innovation covariance is not symmetric: the entries for `{first}` and `{second}` differ")]
+    NotSymmetric { first: String, second: String },
+    #[error("the innovation covariance is not positive semidefinite: given the innovations declared before it, `{shock}` would have variance {pivot:e} (check its sd/var and the corr() entries that involve it)")]
+    NotPositiveSemidefinite { shock: String, pivot: f64 },
+}
+
+/// Why moments could not be computed.
+#[derive(Debug, Clone, PartialEq, Error)]
+pub enum MomentsError {
+    #[error("the model has no unique stable solution (status {status}); moments need one")]
+    NotDeterminate { status: &'static str },
+    #[error("the solution matrices have inconsistent sizes: {0}")]
+    Shape(String),
+    #[error("the solution matrices have a non-finite entry")]
+    NonFinite,
+    #[error(transparent)]
+    Covariance(#[from] CovarianceError),
+    #[error(transparent)]
+    Lyapunov(#[from] LyapunovError),
+    #[error("the stable and the unit or explosive modes of the transition matrix are too close to be separated (eigenvalue gap {gap:e})")]
+    Inseparable { gap: f64 },
+    #[error("at most {MAX_LAGS} autocorrelation lags, got {0}")]
+    TooManyLags(usize),
+    #[error("forecast-error horizons must be between 1 and {MAX_HORIZON}, got {0}")]
+    BadHorizon(usize),
+}
+
+/// Everything `saddle moments` reports. Deviations are log deviations for `log` variables.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Moments {
+    pub variables: Vec<String>,
+    pub shocks: Vec<String>,
+    /// `None` where the variance does not exist.
+    pub std: Vec<Option<f64>>,
+    /// Var(y); NaN in the rows and columns of non-stationary variables.
+    pub covariance: DMatrix<f64>,
+    /// NaN where undefined (a non-stationary or zero-variance variable).
+    pub correlation: DMatrix<f64>,
+    /// Per variable, lags 1..=L (NaN where undefined).
+    pub autocorrelation: Vec<Vec<f64>>,
+    /// Per variable, per shock: shares of the unconditional variance (NaN where undefined).
+    pub variance_decomposition: Vec<Vec<f64>>,
+    /// Per horizon: per variable, per shock shares of the forecast-error variance.
+    pub fevd: Vec<(usize, Vec<Vec<f64>>)>,
+    /// Variables whose unconditional variance does not exist.
+    pub nonstationary: Vec<String>,
+    /// Sentences for a person (attribution convention, unit roots...).
+    pub warnings: Vec<String>,
+    /// Relative residual of the Lyapunov solve of the stable block.
+    pub lyapunov_residual: f64,
+}
+
+/// The lower-triangular factor L with L L' = `cov` (Cholesky, innovations in declaration order),
+/// allowing zero pivots (a degenerate innovation gets a zero column). Reads only; returns L, or an
+/// error naming the innovation whose conditional variance is negative.
+pub fn covariance_factor(
+    cov: &DMatrix<f64>,
+    shocks: &[String],
+) -> Result<DMatrix<f64>, CovarianceError> {
+    let n = shocks.len();
+    if cov.nrows() != n || cov.ncols() != n {
+        return Err(CovarianceError::Shape {
+            rows: cov.nrows(),
+            cols: cov.ncols(),
+            shocks: n,
+        });
+    }
+    for i in 0..n {
+        for j in 0..n {
+            if !cov[(i, j)].is_finite() {
+                return Err(CovarianceError::NonFinite {
+                    shock: shocks[i].clone(),
+                });
+            }
+        }
+    }
+    let scale = (0..n).map(|i| cov[(i, i)].abs()).fold(0.0, f64::max);
+    for i in 0..n {
+        for j in 0..i {
+            if (cov[(i, j)] - cov[(j, i)]).abs() > PIVOT_TOL * scale.max(f64::MIN_POSITIVE) {
+                return Err(CovarianceError::NotSymmetric {
+                    first: shocks[j].clone(),
+                    second: shocks[i].clone(),
+                });
+            }
+        }
+    }
+    let zero = PIVOT_TOL * scale;
+    let mut l = DMatrix::<f64>::zeros(n, n);
+    for j in 0..n {
+        let mut d = cov[(j, j)];
+        for k in 0..j {
+            d -= l[(j, k)] * l[(j, k)];
+        }
+        if d < -zero {
+            return Err(CovarianceError::NotPositiveSemidefinite {
+                shock: shocks[j].clone(),
+                pivot: d,
+            });
+        }
+        if d <= zero {
+            // Degenerate: the rest of the column must vanish too, or the matrix is indefinite.
+            for i in (j + 1)..n {
+                let mut s = cov[(i, j)];
+                for k in 0..j {
+                    s -= l[(i, k)] * l[(j, k)];
+                }
+                if s.abs() > zero.sqrt() * scale.sqrt() + zero {
+                    return Err(CovarianceError::NotPositiveSemidefinite {
+                        shock: shocks[j].clone(),
+                        pivot: d,
+                    });
+                }
+            }
+            continue;
+        }
+        let r = d.sqrt();
+        l[(j, j)] = r;
+        for i in (j + 1)..n {
+            let mut s = cov[(i, j)];
+            for k in 0..j {
+                s -= l[(i, k)] * l[(j, k)];
+            }
+            l[(i, j)] = s / r;
+        }
+    }
+    Ok(l)
+}
+
+/// Checks that the state space's matrices agree with each other and with the model's lists.
+pub fn check_shapes(solved: &SolvedModel, ss: &StateSpace) -> Result<(), MomentsError> {
+    let ny = solved.variables.len();
+    let ne = solved.shocks.len();
+    let ns = ss.g.nrows();
+    let ok = ss.g.ncols() == ns
+        && ss.p.nrows() == ny
+        && ss.p.ncols() == ns
+        && ss.q.nrows() == ny
+        && ss.q.ncols() == ne
+        && ss.h.nrows() == ns
+        && ss.h.ncols() == ne
+        && solved.covariance.nrows() == ne
+        && solved.covariance.ncols() == ne;
+    if !ok {
+        return Err(MomentsError::Shape(format!(
+            "{ny} variables, {ne} innovations, P {}x{}, Q {}x{}, G {}x{}, H {}x{}, covariance {}x{}",
+            ss.p.nrows(),
+            ss.p.ncols(),
+            ss.q.nrows(),
+            ss.q.ncols(),
+            ss.g.nrows(),
+            ss.g.ncols(),
+            ss.h.nrows(),
+            ss.h.ncols(),
+            solved.covariance.nrows(),
+            solved.covariance.ncols()
+        )));
+    }
+    if [&ss.p, &ss.q, &ss.g, &ss.h]
+        .iter()
+        .any(|m| m.iter().any(|v| !v.is_finite()))
+    {
+        return Err(MomentsError::NonFinite);
+    }
+    Ok(())
+}
+
+/// Computes every moment of [`Moments`] from a determinate solution (reads only). `lags` is the
+/// largest autocorrelation lag, `horizons` the FEVD horizons (each at least 1).
+pub fn moments(
+    solved: &SolvedModel,
+    lags: usize,
+    horizons: &[usize],
+) -> Result<Moments, MomentsError> {
+    let ss = match (&solved.solution, solved.status) {
+        (Some(ss), Status::Determinate) => ss,
+        _ => {
+            return Err(MomentsError::NotDeterminate {
+                status: solved.status.as_str(),
+            })
+        }
+    };
+    if lags > MAX_LAGS {
+        return Err(MomentsError::TooManyLags(lags));
+    }
+    if let Some(&h) = horizons.iter().find(|&&h| h == 0 || h > MAX_HORIZON) {
+        return Err(MomentsError::BadHorizon(h));
+    }
+    check_shapes(solved, ss)?;
+    let ny = solved.variables.len();
+    let ne = solved.shocks.len();
+    let l = covariance_factor(&solved.covariance, &solved.shocks)?;
+    let mut warnings = Vec::new();
+    let correlated = (0..ne).any(|i| (0..i).any(|j| solved.covariance[(i, j)] != 0.0));
+    if correlated {
+        warnings.push(format!(
+            "the innovations are correlated: the variance decompositions attribute their common \
+             part by a Cholesky factorization in declaration order ({}), so an innovation declared \
+             earlier gets the shared variance",
+            solved.shocks.join(", ")
+        ));
+    }
+
+    let real = RealSchur::new(&ss.g)?;
+    let core = if real.spectral_radius() < 1.0 - UNIT_ROOT_TOL {
+        core_stationary(ss, &solved.covariance, &l, &real, lags)?
+    } else {
+        core_with_unit_roots(solved, ss, &l, lags)?
+    };
+    let Core {
+        stationary,
+        part,
+        var_full,
+        autocov,
+        residual: lyapunov_residual,
+        warnings: more,
+    } = core;
+    warnings.extend(more);
+
+    let mut covariance = var_full;
+    for i in 0..ny {
+        if !stationary[i] {
+            for k in 0..ny {
+                covariance[(i, k)] = f64::NAN;
+                covariance[(k, i)] = f64::NAN;
+            }
+        }
+    }
+    let max_var = (0..ny)
+        .filter(|&i| stationary[i])
+        .map(|i| covariance[(i, i)])
+        .fold(0.0, f64::max);
+    let positive: Vec<bool> = (0..ny)
+        .map(|i| stationary[i] && covariance[(i, i)] > ZERO_VARIANCE_RELTOL * max_var)
+        .collect();
+    let std: Vec<Option<f64>> = (0..ny)
+        .map(|i| stationary[i].then(|| covariance[(i, i)].max(0.0).sqrt()))
+        .collect();
+    let correlation = DMatrix::from_fn(ny, ny, |i, k| {
+        if positive[i] && positive[k] {
+            if i == k {
+                1.0
+            } else {
+                (covariance[(i, k)] / (covariance[(i, i)] * covariance[(k, k)]).sqrt())
+                    .clamp(-1.0, 1.0)
+            }
+        } else {
+            f64::NAN
+        }
+    });
+    let autocorrelation: Vec<Vec<f64>> = (0..ny)
+        .map(|i| {
+            autocov[i]
+                .iter()
+                .map(|c| {
+                    if positive[i] {
+                        c / covariance[(i, i)]
+                    } else {
+                        f64::NAN
+                    }
+                })
+                .collect()
+        })
+        .collect();
+
+    let variance_decomposition: Vec<Vec<f64>> = (0..ny)
+        .map(|i| {
+            let total: f64 = part.row(i).iter().sum();
+            (0..ne)
+                .map(|j| {
+                    if positive[i] && total > 0.0 {
+                        part[(i, j)] / total
+                    } else {
+                        f64::NAN
+                    }
+                })
+                .collect()
+        })
+        .collect();
+
+    let fevd = forecast_error_decomposition(ss, &l, horizons);
+    let nonstationary = (0..ny)
+        .filter(|&i| !stationary[i])
+        .map(|i| solved.variables[i].clone())
+        .collect();
+    Ok(Moments {
+        variables: solved.variables.clone(),
+        shocks: solved.shocks.clone(),
+        std,
+        covariance,
+        correlation,
+        autocorrelation,
+        variance_decomposition,
+        fevd,
+        nonstationary,
+        warnings,
+        lyapunov_residual,
+    })
+}
+
+/// What either computation path delivers to [`moments`].
+struct Core {
+    /// Per variable: its unconditional variance exists.
+    stationary: Vec<bool>,
+    /// Variance of variable i due to innovation j (orthogonalized by L), ny x ne.
+    part: DMatrix<f64>,
+    /// Var(y) (meaningful in the rows and columns of stationary variables).
+    var_full: DMatrix<f64>,
+    /// Per variable, autocovariances at lags 1..=L.
+    autocov: Vec<Vec<f64>>,
+    residual: f64,
+    warnings: Vec<String>,
+}
+
+/// The relative residual ||Y - T Y T' - C||_F / (||C||_F + ||T||_F^2 ||Y||_F) (0 if all zero).
+fn stein_residual_real(t: &DMatrix<f64>, y: &DMatrix<f64>, c: &DMatrix<f64>) -> f64 {
+    let r = y - t * y * t.transpose() - c;
+    let denom = c.norm() + t.norm().powi(2) * y.norm();
+    if denom == 0.0 {
+        0.0
+    } else {
+        r.norm() / denom
+    }
+}
+
+/// Every mode stable: real Schur basis G = U T U', per-innovation Y_j = T Y_j T' + b_j b_j'
+/// with b_j = U' H l_j, Var_j(y_i) = (P U Y_j U' P')_ii + (Q l_j)_i^2; autocovariances from
+/// S_1 = T Y U'P' + (U'H L) L'Q', S_k = T S_{k-1}, diag(P U S_k). Reads only.
+fn core_stationary(
+    ss: &StateSpace,
+    sigma: &DMatrix<f64>,
+    l: &DMatrix<f64>,
+    schur: &RealSchur,
+    lags: usize,
+) -> Result<Core, MomentsError> {
+    let ny = ss.p.nrows();
+    let ne = l.ncols();
+    let ns = ss.g.nrows();
+    let pu = &ss.p * &schur.q; // ny x ns
+    let uhl = schur.q.transpose() * (&ss.h * l); // ns x ne
+    let ql = &ss.q * l;
+    let mut part = DMatrix::<f64>::zeros(ny, ne);
+    let mut y_total = DMatrix::<f64>::zeros(ns, ns);
+    for j in 0..ne {
+        let b = uhl.column(j);
+        let c = &b * b.transpose();
+        let yj = solve_quasi_triangular_stein(&schur.t, &schur.blocks, &c)?;
+        let py = &pu * &yj;
+        for i in 0..ny {
+            let s = py.row(i).dot(&pu.row(i));
+            part[(i, j)] = s.max(0.0) + ql[(i, j)] * ql[(i, j)];
+        }
+        y_total += yj;
+    }
+    let y_total = (&y_total + y_total.transpose()) * 0.5;
+    let c_total = &uhl * uhl.transpose();
+    let residual = stein_residual_real(&schur.t, &y_total, &c_total);
+    if residual.is_nan() || residual > RESIDUAL_TOL {
+        return Err(MomentsError::Lyapunov(LyapunovError::NoConvergence {
+            schur_residual: residual,
+            doubling_residual: f64::NAN,
+            steps: 0,
+        }));
+    }
+    let v = &pu * &y_total * pu.transpose() + &ss.q * sigma * ss.q.transpose();
+    let var_full = (&v + v.transpose()) * 0.5;
+    let mut autocov = vec![Vec::with_capacity(lags); ny];
+    if lags > 0 {
+        let mut s =
+            &schur.t * (&y_total * pu.transpose()) + &uhl * (l.transpose() * ss.q.transpose());
+        for _ in 1..=lags {
+            for (i, a) in autocov.iter_mut().enumerate() {
+                a.push(pu.row(i).dot(&s.column(i).transpose()));
+            }
+            s = &schur.t * &s;
+        }
+    }
+    Ok(Core {
+        stationary: vec![true; ny],
+        part,
+        var_full,
+        autocov,
+        residual,
+        warnings: Vec::new(),
+    })
+}
+
+/// Some mode with |lambda| >= 1 - UNIT_ROOT_TOL: complex Schur basis reordered with the stable
+/// modes first, blocks decoupled by a Sylvester solve, non-stationary variables found by a Krylov
+/// test, and the moments of the rest computed from the stable block. Reads only.
+fn core_with_unit_roots(
+    solved: &SolvedModel,
+    ss: &StateSpace,
+    l: &DMatrix<f64>,
+    lags: usize,
+) -> Result<Core, MomentsError> {
+    let ny = solved.variables.len();
+    let ne = solved.shocks.len();
+    let ns = ss.g.nrows();
+    let mut warnings = Vec::new();
+    // Complex Schur basis of G with the stable modes first.
+    let mut schur = ComplexSchur::new(&ss.g)?;
+    let n1 = schur.reorder_front(|z| z.norm() < 1.0 - UNIT_ROOT_TOL);
+    let n2 = ns - n1;
+    let t11 = schur.t.view((0, 0), (n1, n1)).into_owned();
+    let t12 = schur.t.view((0, n1), (n1, n2)).into_owned();
+    let t22 = schur.t.view((n1, n1), (n2, n2)).into_owned();
+    let z = solve_sylvester_upper(&t11, &t22, &(-t12))?;
+    let pc = ss.p.map(|v| C64::new(v, 0.0));
+    let hl = &ss.h * l;
+    let hlc = hl.map(|v| C64::new(v, 0.0));
+    let pu = cmul(&pc, &schur.u);
+    let uhl = cmul(&schur.u.adjoint(), &hlc);
+    let c1 = pu.columns(0, n1).into_owned();
+    let b2 = uhl.rows(n1, n2).into_owned();
+    let b1 = uhl.rows(0, n1).into_owned() - cmul(&z, &b2);
+
+    // Which variables load on the non-stationary modes through directions the shocks reach.
+    let mut stationary = vec![true; ny];
+    if n2 > 0 {
+        let c2 = cmul(&c1, &z) + pu.columns(n1, n2);
+        let c2norm = frobenius_c(&c2);
+        let mut r = b2.clone();
+        for _ in 0..n2 {
+            let rn = frobenius_c(&r);
+            if rn == 0.0 || !rn.is_finite() {
+                break;
+            }
+            r /= C64::new(rn, 0.0);
+            let m = cmul(&c2, &r);
+            for (i, st) in stationary.iter_mut().enumerate() {
+                if m.row(i).iter().any(|v| v.norm() > LOADING_TOL * c2norm) {
+                    *st = false;
+                }
+            }
+            r = cmul(&t22, &r);
+        }
+        let unit: Vec<String> = schur.eigenvalues()[n1..]
+            .iter()
+            .map(|z| format!("{:.6}", z.norm()))
+            .collect();
+        let names: Vec<String> = (0..ny)
+            .filter(|&i| !stationary[i])
+            .map(|i| solved.variables[i].clone())
+            .collect();
+        if names.is_empty() {
+            warnings.push(format!(
+                "the transition matrix has {n2} root(s) of modulus {} (unit or explosive), but no \
+                 variable loads on them through a direction the innovations reach; all moments exist",
+                unit.join(", ")
+            ));
+        } else {
+            warnings.push(format!(
+                "the transition matrix has {n2} root(s) of modulus {} (unit or explosive): the \
+                 unconditional variance of {} does not exist; the moments of the other variables \
+                 are reported",
+                unit.join(", "),
+                names.join(", ")
+            ));
+        }
+    }
+
+    // Per-innovation stable-block covariances Y_j = T11 Y_j T11^H + b_j b_j^H.
+    let qc = ss.q.map(|v| C64::new(v, 0.0));
+    let ql = &ss.q * l;
+    let mut y_total = DMatrix::<C64>::zeros(n1, n1);
+    let mut c_total = DMatrix::<C64>::zeros(n1, n1);
+    let mut part = DMatrix::<f64>::zeros(ny, ne); // variance of y_i due to innovation j
+    for j in 0..ne {
+        let b = b1.column(j).into_owned();
+        let cj = &b * b.adjoint();
+        let yj = solve_triangular_stein(&t11, &cj)?;
+        let cy = cmul(&c1, &yj);
+        for i in 0..ny {
+            let mut s = 0.0;
+            for a in 0..n1 {
+                s += (cy[(i, a)] * c1[(i, a)].conj()).re;
+            }
+            part[(i, j)] = s.max(0.0) + ql[(i, j)] * ql[(i, j)];
+        }
+        y_total += yj;
+        c_total += cj;
+    }
+    let lyapunov_residual = {
+        let r = &y_total - cmul(&cmul(&t11, &y_total), &t11.adjoint()) - &c_total;
+        let denom = frobenius_c(&c_total) + frobenius_c(&t11).powi(2) * frobenius_c(&y_total);
+        if denom == 0.0 {
+            0.0
+        } else {
+            frobenius_c(&r) / denom
+        }
+    };
+    if lyapunov_residual.is_nan() || lyapunov_residual > RESIDUAL_TOL {
+        return Err(MomentsError::Lyapunov(LyapunovError::NoConvergence {
+            schur_residual: lyapunov_residual,
+            doubling_residual: f64::NAN,
+            steps: 0,
+        }));
+    }
+    let sigma = &solved.covariance;
+    let var_full = {
+        let v = cmul(&cmul(&c1, &y_total), &c1.adjoint()).map(|z| z.re)
+            + &ss.q * sigma * ss.q.transpose();
+        (&v + v.transpose()) * 0.5
+    };
+    // Autocovariances: S_1 = T11 Y C1^H + B1 Sigma_v Q', S_k = T11 S_{k-1}; diag(C1 S_k).
+    let mut autocov = vec![Vec::with_capacity(lags); ny];
+    if lags > 0 {
+        // With e = L u (Var u = I), E[v1_{t-1} e_{t-k}'] = T11^{k-1} B1 L' for k >= 1.
+        let lt = l.transpose().map(|v| C64::new(v, 0.0));
+        let mut s =
+            cmul(&t11, &cmul(&y_total, &c1.adjoint())) + cmul(&cmul(&b1, &lt), &qc.transpose());
+        for _ in 1..=lags {
+            for i in 0..ny {
+                let mut acc = 0.0;
+                for a in 0..n1 {
+                    acc += (c1[(i, a)] * s[(a, i)]).re;
+                }
+                autocov[i].push(acc);
+            }
+            s = cmul(&t11, &s);
+        }
+    }
+
+    Ok(Core {
+        stationary,
+        part,
+        var_full,
+        autocov,
+        residual: lyapunov_residual,
+        warnings,
+    })
+}
+
+/// Forecast-error variance shares at each horizon in `horizons` (each >= 1), per variable and
+/// innovation: sum_{k<h} (Psi_k l_j)_i^2 normalized across j, with Psi_0 = Q and
+/// Psi_k = P G^{k-1} H. Exists at every finite horizon, even for non-stationary variables. Reads
+/// only; a variable with zero forecast-error variance gets NaN shares.
+pub fn forecast_error_decomposition(
+    ss: &StateSpace,
+    l: &DMatrix<f64>,
+    horizons: &[usize],
+) -> Vec<(usize, Vec<Vec<f64>>)> {
+    let ny = ss.p.nrows();
+    let ne = l.ncols();
+    let max_h = horizons.iter().copied().max().unwrap_or(0);
+    let mut cum = DMatrix::<f64>::zeros(ny, ne);
+    let mut at = std::collections::BTreeMap::new();
+    let mut r = &ss.h * l; // G^{k-1} H L
+    let psi0 = &ss.q * l;
+    for h in 1..=max_h {
+        let psi = if h == 1 {
+            psi0.clone()
+        } else {
+            let p = &ss.p * &r;
+            r = &ss.g * &r;
+            p
+        };
+        cum += psi.component_mul(&psi);
+        if horizons.contains(&h) {
+            let shares: Vec<Vec<f64>> = (0..ny)
+                .map(|i| {
+                    let total: f64 = cum.row(i).iter().sum();
+                    (0..ne)
+                        .map(|j| {
+                            if total > 0.0 && total.is_finite() {
+                                cum[(i, j)] / total
+                            } else {
+                                f64::NAN
+                            }
+                        })
+                        .collect()
+                })
+                .collect();
+            at.insert(h, shares);
+        }
+    }
+    horizons
+        .iter()
+        .filter_map(|h| at.get(h).map(|s| (*h, s.clone())))
+        .collect()
+}
+
+/// Solves T11 Z - Z T22 = F for upper-triangular `t11` (n1 x n1) and `t22` (n2 x n2), column by
+/// column (Bartels and Stewart 1972, Comm. ACM 15). Reads only; returns Z (n1 x n2), or
+/// [`MomentsError::Inseparable`] when an eigenvalue of T11 is too close to one of T22.
+pub fn solve_sylvester_upper(
+    t11: &DMatrix<C64>,
+    t22: &DMatrix<C64>,
+    f: &DMatrix<C64>,
+) -> Result<DMatrix<C64>, MomentsError> {
+    let n1 = t11.nrows();
+    let n2 = t22.nrows();
+    let mut z = DMatrix::<C64>::zeros(n1, n2);
+    let scale = frobenius_c(t11).max(frobenius_c(t22)).max(1.0);
+    for j in 0..n2 {
+        let mut b: Vec<C64> = (0..n1).map(|i| f[(i, j)]).collect();
+        for l in 0..j {
+            let w = t22[(l, j)];
+            for (i, bi) in b.iter_mut().enumerate() {
+                *bi += z[(i, l)] * w;
+            }
+        }
+        let mu = t22[(j, j)];
+        for i in (0..n1).rev() {
+            let d = t11[(i, i)] - mu;
+            if d.norm() < 1e3 * f64::EPSILON * scale {
+                return Err(MomentsError::Inseparable { gap: d.norm() });
+            }
+            let zi = b[i] / d;
+            z[(i, j)] = zi;
+            for (k, bk) in b[..i].iter_mut().enumerate() {
+                *bk -= t11[(k, i)] * zi;
+            }
+        }
+    }
+    Ok(z)
+}

@@ -5,6 +5,7 @@
 pub mod csv;
 pub mod irf;
 pub mod moments;
+pub mod ordered_json;
 pub mod report;
 pub mod simulate;
 pub mod solve;
