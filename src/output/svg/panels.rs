@@ -279,7 +279,7 @@ fn panel_scale(panel: &Panel, global_max: f64, y_range: YRange, plot_height: f64
         lo = mid - pad;
         hi = mid + pad;
     }
-    let mut target = ((plot_height / 34.0).round() as usize).clamp(3, 7);
+    let mut target = ((plot_height / 40.0).round() as usize).clamp(3, 6);
     loop {
         let ticks = loose_ticks(lo, hi, target);
         let spacing = plot_height * ticks.step / (ticks.hi - ticks.lo);
