@@ -1,1 +1,1541 @@
 //! Name resolution and the checks of spec §5: syntax tree -> [`super::Model`].
+//!
+//! Contract: [`check_source`] parses a model file and either returns the checked [`Model`] or
+//! every diagnostic found (syntax errors first: when the file does not parse, only those are
+//! reported, since checks on a half-read file mislead). The checks: names resolve (with a
+//! did-you-mean), nothing is declared twice, time indices are `t`, `t+k`, `t-k` (integer literal
+//! `k`) or `ss` and are used where they mean something (no index on a parameter, no lead on an
+//! innovation), parameters form no cycle and evaluate to finite numbers in dependency order, the
+//! number of equations equals the number of endogenous variables and each variable appears in
+//! some equation, the covariance items form a valid covariance matrix, the `steady` values
+//! resolve and evaluate, and the options are valid. Each variable's largest lead and lag are
+//! recorded.
+
+use std::collections::HashMap;
+
+use super::calibrate::{self, CovarianceProblem, Values};
+use super::print::{self, Names};
+use super::{
+    BinaryOp, CovarianceItem, CovarianceKind, Endogenous, Equation, Exogenous, Expr, Function,
+    Function2, Model, ModelOptions, Parameter, SteadyItem, SteadyKind,
+};
+use crate::language::ast::{self, ExprKind, Func};
+use crate::language::{self, Diagnostic, Span};
+
+/// Largest lead or lag accepted in a time index. Each period of lead or lag adds an auxiliary
+/// variable per variable to the solved system; a model needs a handful, and a hundred keeps a
+/// mistyped `x[t+100000]` from building a system of millions of equations.
+pub const MAX_TIME_OFFSET: i64 = 100;
+
+/// Largest `options horizon` accepted (periods of impulse responses).
+pub const MAX_HORIZON: u32 = 100_000;
+
+/// Parses and checks `source`: the checked model, or every diagnostic (sorted by position).
+pub fn check_source(source: &str) -> Result<Model, Vec<Diagnostic>> {
+    let (file, diags) = language::parse(source);
+    if diags.iter().any(Diagnostic::is_error) {
+        return Err(diags);
+    }
+    check_file(&file)
+}
+
+/// Checks a parsed file: the checked model, or every diagnostic (sorted by position).
+pub fn check_file(file: &ast::File) -> Result<Model, Vec<Diagnostic>> {
+    let mut c = Checker::default();
+    let model = c.run(file);
+    if c.diags.iter().any(Diagnostic::is_error) {
+        language::diagnostics::finish(&mut c.diags);
+        return Err(c.diags);
+    }
+    model.ok_or_else(|| {
+        vec![Diagnostic::error(
+            "internal",
+            "the model could not be built",
+            Span::default(),
+            "",
+        )]
+    })
+}
+
+/// The closest of `candidates` to `name` when it is close enough to be a likely typo (optimal
+/// string alignment distance at most 1 for short names, 2 from 5 characters, 3 from 9).
+pub fn did_you_mean<'c>(name: &str, candidates: impl Iterator<Item = &'c str>) -> Option<&'c str> {
+    let n = name.chars().count();
+    let limit = match n {
+        0..=4 => 1,
+        5..=8 => 2,
+        _ => 3,
+    };
+    let mut best: Option<(usize, &str)> = None;
+    for c in candidates {
+        if c == name || c.chars().count().abs_diff(n) > limit {
+            continue;
+        }
+        let d = edit_distance(name, c);
+        // At least one character must survive: `z` is no typo of `k`.
+        if d <= limit && d < n && best.is_none_or(|(bd, _)| d < bd) {
+            best = Some((d, c));
+        }
+    }
+    best.map(|(_, c)| c)
+}
+
+/// Optimal string alignment distance (Levenshtein with adjacent transpositions), by characters.
+fn edit_distance(a: &str, b: &str) -> usize {
+    let a: Vec<char> = a.chars().collect();
+    let b: Vec<char> = b.chars().collect();
+    let w = b.len() + 1;
+    let mut d = vec![0usize; (a.len() + 1) * w];
+    for i in 0..=a.len() {
+        d[i * w] = i;
+    }
+    for (j, cell) in d.iter_mut().enumerate().take(w) {
+        *cell = j;
+    }
+    for i in 1..=a.len() {
+        for j in 1..=b.len() {
+            let cost = usize::from(a[i - 1] != b[j - 1]);
+            let mut v = (d[(i - 1) * w + j] + 1)
+                .min(d[i * w + j - 1] + 1)
+                .min(d[(i - 1) * w + j - 1] + cost);
+            if i > 1 && j > 1 && a[i - 1] == b[j - 2] && a[i - 2] == b[j - 1] {
+                v = v.min(d[(i - 2) * w + j - 2] + 1);
+            }
+            d[i * w + j] = v;
+        }
+    }
+    d[a.len() * w + b.len()]
+}
+
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+enum Symbol {
+    Endogenous(usize),
+    Exogenous(usize),
+    Parameter(usize),
+}
+
+impl Symbol {
+    fn kind(self) -> &'static str {
+        match self {
+            Symbol::Endogenous(_) => "an endogenous variable",
+            Symbol::Exogenous(_) => "an innovation",
+            Symbol::Parameter(_) => "a parameter",
+        }
+    }
+}
+
+/// Where an expression stands, which decides what its names may mean.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+enum Place {
+    /// The value of a parameter.
+    Parameter,
+    Equation,
+    Steady,
+    Covariance,
+    Option,
+}
+
+impl Place {
+    fn what(self) -> &'static str {
+        match self {
+            Place::Parameter => "a parameter's value",
+            Place::Equation => "an equation",
+            Place::Steady => "a steady-state value",
+            Place::Covariance => "a covariance item",
+            Place::Option => "an option",
+        }
+    }
+}
+
+/// Names an expression refers to that matter for ordering.
+#[derive(Default)]
+struct Refs {
+    parameters: Vec<(usize, Span)>,
+    steady: Vec<(usize, Span)>,
+}
+
+/// A time index after classification.
+enum Index {
+    Offset(i32),
+    Steady,
+}
+
+#[derive(Default)]
+struct Checker<'a> {
+    diags: Vec<Diagnostic>,
+    names: HashMap<&'a str, (Symbol, Span)>,
+    title: Option<(&'a ast::StringLit, Span)>,
+    endogenous: Vec<&'a ast::EndogenousDecl>,
+    exogenous: Vec<&'a ast::ExogenousDecl>,
+    parameters: Vec<&'a ast::ParameterDecl>,
+    equations: Vec<&'a ast::EquationDecl>,
+    covariance: Vec<&'a ast::CovarianceDecl>,
+    steady: Vec<&'a ast::SteadyDecl>,
+    options: Vec<&'a ast::OptionDecl>,
+    endogenous_header: Option<Span>,
+    equations_header: Option<Span>,
+    /// Per endogenous variable: used in an equation at some date; largest lead; largest lag.
+    used: Vec<bool>,
+    max_lead: Vec<u32>,
+    max_lag: Vec<u32>,
+    exo_max_lag: Vec<u32>,
+    /// Valueless parameters already reported at a use.
+    reported_no_value: Vec<bool>,
+}
+
+impl<'a> Checker<'a> {
+    fn error(&mut self, d: Diagnostic) {
+        self.diags.push(d);
+    }
+
+    fn run(&mut self, file: &'a ast::File) -> Option<Model> {
+        self.collect(file);
+        self.declare();
+        let n_endo = self.endogenous.len();
+        self.used = vec![false; n_endo];
+        self.max_lead = vec![0; n_endo];
+        self.max_lag = vec![0; n_endo];
+        self.exo_max_lag = vec![0; self.exogenous.len()];
+        self.reported_no_value = vec![false; self.parameters.len()];
+
+        let (parameters, order) = self.check_parameters();
+        let equations = self.check_equations();
+        self.check_counts();
+        let (covariance_items, covariance, sd_given) = self.check_covariance(&parameters);
+        let steady = self.check_steady(&parameters);
+        let options = self.check_options(&parameters);
+
+        if self.diags.iter().any(Diagnostic::is_error) {
+            return None;
+        }
+        Some(Model {
+            title: self.title.map(|(s, _)| s.value.clone()),
+            endogenous: self
+                .endogenous
+                .iter()
+                .enumerate()
+                .map(|(i, d)| Endogenous {
+                    name: d.name.text.clone(),
+                    label: d.label.as_ref().map(|l| l.value.clone()),
+                    log: d.log.is_some(),
+                    max_lead: self.max_lead[i],
+                    max_lag: self.max_lag[i],
+                })
+                .collect(),
+            exogenous: self
+                .exogenous
+                .iter()
+                .enumerate()
+                .map(|(i, d)| Exogenous {
+                    name: d.name.text.clone(),
+                    label: d.label.as_ref().map(|l| l.value.clone()),
+                    max_lag: self.exo_max_lag[i],
+                })
+                .collect(),
+            parameters,
+            parameter_order: order,
+            equations,
+            covariance_items,
+            covariance,
+            sd_given,
+            steady,
+            options,
+        })
+    }
+
+    /// Sorts the statements into their kinds, in file order.
+    fn collect(&mut self, file: &'a ast::File) {
+        for st in &file.statements {
+            match st {
+                ast::Statement::Title { keyword, text } => {
+                    if let Some(t) = text {
+                        if let Some((_, first)) = self.title {
+                            self.error(
+                                Diagnostic::error(
+                                    "duplicate",
+                                    "the title is given twice",
+                                    *keyword,
+                                    "second title",
+                                )
+                                .with_label(first, "first title")
+                                .with_help("a model has at most one title"),
+                            );
+                        } else {
+                            self.title = Some((t, *keyword));
+                        }
+                    }
+                }
+                ast::Statement::SectionHeader { section, keyword } => match section {
+                    language::lexer::Section::Endogenous => {
+                        self.endogenous_header.get_or_insert(*keyword);
+                    }
+                    language::lexer::Section::Equations => {
+                        self.equations_header.get_or_insert(*keyword);
+                    }
+                    _ => {}
+                },
+                ast::Statement::Endogenous(v) => self.endogenous.extend(v.iter()),
+                ast::Statement::Exogenous(v) => self.exogenous.extend(v.iter()),
+                ast::Statement::Parameter(p) => self.parameters.push(p),
+                ast::Statement::Equation(e) => self.equations.push(e),
+                ast::Statement::Covariance(c) => self.covariance.push(c),
+                ast::Statement::Steady(s) => self.steady.push(s),
+                ast::Statement::Option(o) => self.options.push(o),
+                ast::Statement::Error => {}
+            }
+        }
+    }
+
+    /// Enters every declared name, reporting names declared twice (both places shown).
+    fn declare(&mut self) {
+        let mut decls: Vec<(&'a ast::Name, Symbol)> = Vec::new();
+        decls.extend(
+            self.endogenous
+                .iter()
+                .enumerate()
+                .map(|(i, d)| (&d.name, Symbol::Endogenous(i))),
+        );
+        decls.extend(
+            self.exogenous
+                .iter()
+                .enumerate()
+                .map(|(i, d)| (&d.name, Symbol::Exogenous(i))),
+        );
+        decls.extend(
+            self.parameters
+                .iter()
+                .enumerate()
+                .map(|(i, d)| (&d.name, Symbol::Parameter(i))),
+        );
+        decls.sort_by_key(|(n, _)| n.span.start);
+        for (name, sym) in decls {
+            if let Some(&(first_sym, first_span)) = self.names.get(name.text.as_str()) {
+                let message = if first_sym.kind() == sym.kind() {
+                    format!("`{}` is declared twice", name.text)
+                } else {
+                    format!(
+                        "`{}` is declared twice: as {} and as {}",
+                        name.text,
+                        first_sym.kind(),
+                        sym.kind()
+                    )
+                };
+                self.error(
+                    Diagnostic::error("duplicate", message, name.span, "declared again here")
+                        .with_label(first_span, "first declared here")
+                        .with_help("each name is declared once; rename or remove one of them"),
+                );
+            } else {
+                self.names.insert(name.text.as_str(), (sym, name.span));
+            }
+        }
+    }
+
+    fn suggest(&self, name: &str, filter: impl Fn(Symbol) -> bool) -> Option<String> {
+        let found = did_you_mean(
+            name,
+            self.names
+                .iter()
+                .filter(|(_, (s, _))| filter(*s))
+                .map(|(n, _)| *n),
+        );
+        found.map(|s| format!("did you mean `{s}`?"))
+    }
+
+    fn unknown_name(&mut self, name: &str, span: Span, place: Place) {
+        let filter = |s: Symbol| match place {
+            Place::Equation => true,
+            Place::Steady => !matches!(s, Symbol::Exogenous(_)),
+            _ => matches!(s, Symbol::Parameter(_)),
+        };
+        let mut d = Diagnostic::error(
+            "unknown-name",
+            format!("unknown name `{name}`"),
+            span,
+            "not declared",
+        );
+        d = match self
+            .suggest(name, filter)
+            .or_else(|| self.suggest(name, |_| true))
+        {
+            Some(h) => d.with_help(h),
+            None => d.with_help(
+                "declare it under endogenous, exogenous or parameters (names are case-sensitive)",
+            ),
+        };
+        self.error(d);
+    }
+
+    /// Classifies a time index; reports and returns `None` when it is not `t`, `t+k`, `t-k`
+    /// (integer literal `k`) or `ss`.
+    fn index(&mut self, index: &ast::Expr) -> Option<Index> {
+        let offset_of = |c: &mut Self, sign: i64, k: &ast::Expr| -> Option<Index> {
+            match &k.kind {
+                ExprKind::Number {
+                    value,
+                    integer: true,
+                } => {
+                    if *value > MAX_TIME_OFFSET as f64 {
+                        c.error(
+                            Diagnostic::error(
+                                "offset-too-large",
+                                format!(
+                                    "a time offset of {value} periods is beyond the limit of {MAX_TIME_OFFSET}"
+                                ),
+                                k.span,
+                                "too far",
+                            )
+                            .with_help("leads and lags of more than a few periods are rarely meant"),
+                        );
+                        return None;
+                    }
+                    Some(Index::Offset((sign * (*value as i64)) as i32))
+                }
+                ExprKind::Number { .. } => {
+                    c.error(
+                        Diagnostic::error(
+                            "non-integer-offset",
+                            "a time offset must be a whole number of periods",
+                            k.span,
+                            "not an integer",
+                        )
+                        .with_help(
+                            "write the offset as an integer literal, as in x[t+1] or x[t-2]",
+                        ),
+                    );
+                    None
+                }
+                _ => {
+                    c.error(
+                        Diagnostic::error(
+                            "non-literal-offset",
+                            "a time offset must be an integer literal",
+                            k.span,
+                            "not a literal",
+                        )
+                        .with_help(
+                            "offsets are fixed when the model is read: write x[t+1] or x[t-2], \
+                             not a name or an expression",
+                        ),
+                    );
+                    None
+                }
+            }
+        };
+        match &index.kind {
+            ExprKind::Time => Some(Index::Offset(0)),
+            ExprKind::SteadyMark => Some(Index::Steady),
+            ExprKind::Binary(op @ (ast::BinOp::Add | ast::BinOp::Sub), a, k)
+                if matches!(a.kind, ExprKind::Time) =>
+            {
+                let sign = if *op == ast::BinOp::Add { 1 } else { -1 };
+                offset_of(self, sign, k)
+            }
+            _ => {
+                self.error(
+                    Diagnostic::error(
+                        "bad-index",
+                        "a time index must be `t`, `t+k`, `t-k` or `ss`",
+                        index.span,
+                        "not a time index",
+                    )
+                    .with_help(
+                        "examples: x[t+1] (expected next period), x[t-1] (last period), x[ss] \
+                         (steady state)",
+                    ),
+                );
+                None
+            }
+        }
+    }
+
+    /// Resolves a name (possibly time-indexed) at `place`.
+    fn resolve(
+        &mut self,
+        name: &str,
+        span: Span,
+        index: Option<(&ast::Expr, Index)>,
+        place: Place,
+        refs: &mut Refs,
+    ) -> Option<Expr> {
+        let Some(&(sym, decl_span)) = self.names.get(name) else {
+            self.unknown_name(name, span, place);
+            return None;
+        };
+        let constant_only = matches!(place, Place::Parameter | Place::Covariance | Place::Option);
+        match sym {
+            Symbol::Parameter(i) => {
+                if let Some((ix, _)) = &index {
+                    self.error(
+                        Diagnostic::error(
+                            "index-on-parameter",
+                            format!("parameter `{name}` takes no time index"),
+                            ix.span,
+                            "time index on a parameter",
+                        )
+                        .with_label(decl_span, "declared as a parameter here")
+                        .with_help(format!(
+                            "parameters are constants: write `{name}` without brackets"
+                        )),
+                    );
+                    return None;
+                }
+                if self.parameters[i].value.is_none() {
+                    if !self.reported_no_value[i] {
+                        self.reported_no_value[i] = true;
+                        self.error(
+                            Diagnostic::error(
+                                "no-value",
+                                format!("parameter `{name}` is used but never given a value"),
+                                span,
+                                "used here",
+                            )
+                            .with_label(decl_span, "declared without a value")
+                            .with_help(format!("give it a value: `{name} = ...`")),
+                        );
+                    }
+                    return None;
+                }
+                refs.parameters.push((i, span));
+                Some(Expr::Parameter(i))
+            }
+            Symbol::Endogenous(i) => {
+                if constant_only {
+                    self.not_constant(name, span, sym, place, decl_span);
+                    return None;
+                }
+                match (place, index) {
+                    (Place::Steady, None) | (_, Some((_, Index::Steady))) => {
+                        if place == Place::Steady {
+                            refs.steady.push((i, span));
+                        }
+                        Some(Expr::SteadyState(i))
+                    }
+                    (Place::Steady, Some((ix, Index::Offset(_)))) => {
+                        self.error(
+                            Diagnostic::error(
+                                "index-in-steady",
+                                "a steady-state value has no date",
+                                ix.span,
+                                "time index in the steady section",
+                            )
+                            .with_help(format!(
+                                "in the steady section `{name}` (or `{name}[ss]`) is its steady-state value"
+                            )),
+                        );
+                        None
+                    }
+                    (_, index) => {
+                        let k = match index {
+                            Some((_, Index::Offset(k))) => k,
+                            _ => 0,
+                        };
+                        self.used[i] = true;
+                        if k > 0 {
+                            self.max_lead[i] = self.max_lead[i].max(k as u32);
+                        } else {
+                            self.max_lag[i] = self.max_lag[i].max(k.unsigned_abs());
+                        }
+                        Some(Expr::Variable {
+                            index: i,
+                            offset: k,
+                        })
+                    }
+                }
+            }
+            Symbol::Exogenous(i) => {
+                if constant_only {
+                    self.not_constant(name, span, sym, place, decl_span);
+                    return None;
+                }
+                if place == Place::Steady {
+                    self.error(
+                        Diagnostic::error(
+                            "innovation-in-steady",
+                            format!("innovation `{name}` has no place in a steady-state value"),
+                            span,
+                            "innovations are zero in the steady state",
+                        )
+                        .with_help("write 0 or leave the term out"),
+                    );
+                    return None;
+                }
+                match index {
+                    None => Some(Expr::Innovation {
+                        index: i,
+                        offset: 0,
+                    }),
+                    Some((ix, Index::Steady)) => {
+                        self.error(
+                            Diagnostic::error(
+                                "steady-innovation",
+                                format!("innovation `{name}` has no steady-state value"),
+                                ix.span,
+                                "`ss` on an innovation",
+                            )
+                            .with_help("innovations are zero in the steady state; write 0"),
+                        );
+                        None
+                    }
+                    Some((ix, Index::Offset(k))) if k > 0 => {
+                        self.error(
+                            Diagnostic::error(
+                                "lead-on-innovation",
+                                format!("innovation `{name}` appears with a lead"),
+                                ix.span,
+                                "lead of an innovation",
+                            )
+                            .with_label(decl_span, "declared as an innovation here")
+                            .with_help(
+                                "innovations are unpredictable: their expectation is zero; use \
+                                 them at t or with a lag such as e[t-1]",
+                            ),
+                        );
+                        None
+                    }
+                    Some((_, Index::Offset(k))) => {
+                        self.exo_max_lag[i] = self.exo_max_lag[i].max(k.unsigned_abs());
+                        Some(Expr::Innovation {
+                            index: i,
+                            offset: k,
+                        })
+                    }
+                }
+            }
+        }
+    }
+
+    fn not_constant(&mut self, name: &str, span: Span, sym: Symbol, place: Place, decl: Span) {
+        self.error(
+            Diagnostic::error(
+                "not-constant",
+                format!(
+                    "`{name}` is {} and cannot appear in {}",
+                    sym.kind(),
+                    place.what()
+                ),
+                span,
+                "not a constant",
+            )
+            .with_label(decl, "declared here")
+            .with_help(format!(
+                "{} may use only numbers and parameters",
+                capitalize(place.what())
+            )),
+        );
+    }
+
+    /// Lowers a syntax-tree expression to a model expression at `place`, collecting the names it
+    /// depends on in `refs`. Returns `None` after reporting when any part is wrong (every wrong
+    /// part is reported). Recursive; depth bounded by the parser's limit.
+    fn lower(&mut self, e: &ast::Expr, place: Place, refs: &mut Refs) -> Option<Expr> {
+        match &e.kind {
+            ExprKind::Number { value, .. } => Some(Expr::Number(*value)),
+            ExprKind::Name(n) => self.resolve(n, e.span, None, place, refs),
+            ExprKind::Indexed { name, index } => {
+                let ix = self.index(index)?;
+                self.resolve(&name.text, e.span, Some((index, ix)), place, refs)
+            }
+            ExprKind::Time | ExprKind::SteadyMark => {
+                let word = if matches!(e.kind, ExprKind::Time) {
+                    "t"
+                } else {
+                    "ss"
+                };
+                self.error(
+                    Diagnostic::error(
+                        "misplaced-time",
+                        format!("`{word}` can only be used inside a time index"),
+                        e.span,
+                        "outside brackets",
+                    )
+                    .with_help("write it after a variable, as in x[t+1] or x[ss]"),
+                );
+                None
+            }
+            ExprKind::Neg(a) => {
+                let a = self.lower(a, place, refs)?;
+                Some(match a {
+                    Expr::Number(v) => Expr::Number(-v),
+                    other => Expr::Neg(Box::new(other)),
+                })
+            }
+            ExprKind::Binary(op, a, b) => {
+                let a = self.lower(a, place, refs);
+                let b = self.lower(b, place, refs);
+                let op = match op {
+                    ast::BinOp::Add => BinaryOp::Add,
+                    ast::BinOp::Sub => BinaryOp::Sub,
+                    ast::BinOp::Mul => BinaryOp::Mul,
+                    ast::BinOp::Div => BinaryOp::Div,
+                    ast::BinOp::Pow => BinaryOp::Pow,
+                };
+                Some(Expr::binary(op, a?, b?))
+            }
+            ExprKind::Call {
+                func,
+                func_span,
+                args,
+            } => {
+                let lowered: Vec<Option<Expr>> =
+                    args.iter().map(|a| self.lower(a, place, refs)).collect();
+                if args.len() != func.arity() {
+                    let want = func.arity();
+                    self.error(
+                        Diagnostic::error(
+                            "arity",
+                            format!(
+                                "`{}` takes {want} argument{}, found {}",
+                                func.name(),
+                                if want == 1 { "" } else { "s" },
+                                args.len()
+                            ),
+                            e.span,
+                            "wrong number of arguments",
+                        )
+                        .with_label(*func_span, "this function"),
+                    );
+                    return None;
+                }
+                let mut lowered = lowered.into_iter();
+                let a = lowered.next().flatten();
+                let f1 = |f: Function, a: Option<Expr>| Some(Expr::Call(f, Box::new(a?)));
+                match func {
+                    Func::Exp => f1(Function::Exp, a),
+                    Func::Ln | Func::Log => f1(Function::Ln, a),
+                    Func::Log10 => f1(Function::Log10, a),
+                    Func::Sqrt => f1(Function::Sqrt, a),
+                    Func::Abs => f1(Function::Abs, a),
+                    Func::Sign => f1(Function::Sign, a),
+                    Func::NormCdf => f1(Function::NormCdf, a),
+                    Func::NormPdf => f1(Function::NormPdf, a),
+                    Func::Min | Func::Max => {
+                        let b = lowered.next().flatten();
+                        let f = if *func == Func::Min {
+                            Function2::Min
+                        } else {
+                            Function2::Max
+                        };
+                        Some(Expr::Call2(f, Box::new(a?), Box::new(b?)))
+                    }
+                }
+            }
+            ExprKind::UnknownCall { name, args } => {
+                for a in args {
+                    let _ = self.lower(a, place, refs);
+                }
+                const FUNCTIONS: [&str; 11] = [
+                    "exp", "ln", "log", "log10", "sqrt", "abs", "sign", "normcdf", "normpdf",
+                    "min", "max",
+                ];
+                let mut d = Diagnostic::error(
+                    "unknown-function",
+                    format!("unknown function `{}`", name.text),
+                    name.span,
+                    "not a function",
+                );
+                if let Some(f) = did_you_mean(&name.text, FUNCTIONS.iter().copied()) {
+                    d = d.with_help(format!("did you mean `{f}`?"));
+                } else if self.names.contains_key(name.text.as_str()) {
+                    d = d.with_help(format!(
+                        "`{}` is declared as a name, not a function; a product needs `*`",
+                        name.text
+                    ));
+                } else {
+                    d = d.with_help(format!("the functions are {}", FUNCTIONS.join(", ")));
+                }
+                self.error(d);
+                None
+            }
+            ExprKind::TooDeep => None,
+        }
+    }
+
+    /// Resolves parameter values, orders them (reporting cycles) and evaluates them. Returns the
+    /// parameters (value NaN where not computable) and a dependency order.
+    fn check_parameters(&mut self) -> (Vec<Parameter>, Vec<usize>) {
+        let n = self.parameters.len();
+        let mut exprs: Vec<Option<Expr>> = Vec::with_capacity(n);
+        let mut deps: Vec<Vec<(usize, Span)>> = Vec::with_capacity(n);
+        for i in 0..n {
+            let decl = self.parameters[i];
+            let mut refs = Refs::default();
+            let e = match &decl.value {
+                Some(v) => self.lower(v, Place::Parameter, &mut refs),
+                None => {
+                    if !self.reported_no_value[i] && !self.parameter_used_anywhere(i) {
+                        self.reported_no_value[i] = true;
+                        self.error(
+                            Diagnostic::error(
+                                "no-value",
+                                format!("parameter `{}` is never given a value", decl.name.text),
+                                decl.name.span,
+                                "declared without a value",
+                            )
+                            .with_help(format!("write `{} = ...`", decl.name.text)),
+                        );
+                    }
+                    None
+                }
+            };
+            exprs.push(e);
+            deps.push(refs.parameters);
+        }
+        let order = self.order("parameter", &deps, |c, i| c.parameters[i].name.text.clone());
+        let mut values = vec![f64::NAN; n];
+        let mut computable = vec![false; n];
+        for &i in &order {
+            let Some(e) = &exprs[i] else { continue };
+            if !deps[i].iter().all(|(j, _)| computable[*j]) {
+                continue;
+            }
+            let v = e.eval(&Values {
+                parameters: &values,
+                steady: &[],
+            });
+            values[i] = v;
+            if v.is_finite() {
+                computable[i] = true;
+            } else {
+                let leaves = Values {
+                    parameters: &values,
+                    steady: &[],
+                };
+                let decl = self.parameters[i];
+                let span = decl.value.as_ref().map_or(decl.span, |v| v.span);
+                let names = self.names_for_print();
+                let at = calibrate::non_finite_source(e, &leaves)
+                    .map(|s| print::expr_text(s, &names.view()))
+                    .unwrap_or_default();
+                self.error(
+                    Diagnostic::error(
+                        "not-finite",
+                        format!(
+                            "parameter `{}` is {} at the calibration",
+                            decl.name.text,
+                            describe_value(v)
+                        ),
+                        span,
+                        format!("`{at}` is {}", describe_value(non_finite_value(e, &leaves, &at, &names.view()))),
+                    )
+                    .with_help("check the values this expression uses (division by zero, log or square root of a negative number)"),
+                );
+            }
+        }
+        let params = (0..n)
+            .map(|i| {
+                let d = self.parameters[i];
+                Parameter {
+                    name: d.name.text.clone(),
+                    label: d.label.as_ref().map(|l| l.value.clone()),
+                    expr: exprs[i].clone().unwrap_or(Expr::Number(f64::NAN)),
+                    value: values[i],
+                }
+            })
+            .collect();
+        (params, order)
+    }
+
+    fn parameter_used_anywhere(&self, i: usize) -> bool {
+        let name = self.parameters[i].name.text.as_str();
+        let mut used = false;
+        let mut look = |e: &ast::Expr| {
+            e.walk(&mut |x| {
+                if let ExprKind::Name(n) = &x.kind {
+                    used |= n == name;
+                }
+            })
+        };
+        for p in &self.parameters {
+            if let Some(v) = &p.value {
+                look(v);
+            }
+        }
+        for q in &self.equations {
+            look(&q.lhs);
+            if let Some(r) = &q.rhs {
+                look(r);
+            }
+        }
+        for c in &self.covariance {
+            look(&c.value);
+        }
+        for s in &self.steady {
+            look(&s.value);
+        }
+        for o in &self.options {
+            look(&o.value);
+        }
+        used
+    }
+
+    /// A topological order of nodes `0..deps.len()` (each after the nodes it depends on), found
+    /// by an iterative depth-first search in file order; each cycle is reported once, with the
+    /// cycle shown.
+    fn order(
+        &mut self,
+        what: &str,
+        deps: &[Vec<(usize, Span)>],
+        name: impl Fn(&Self, usize) -> String,
+    ) -> Vec<usize> {
+        let n = deps.len();
+        let mut state = vec![0u8; n]; // 0 new, 1 on the stack, 2 done
+        let mut in_reported_cycle = vec![false; n];
+        let mut order = Vec::with_capacity(n);
+        for root in 0..n {
+            if state[root] != 0 {
+                continue;
+            }
+            state[root] = 1;
+            let mut stack: Vec<(usize, usize)> = vec![(root, 0)];
+            while let Some(&mut (v, ref mut next)) = stack.last_mut() {
+                if *next < deps[v].len() {
+                    let (w, _) = deps[v][*next];
+                    *next += 1;
+                    match state[w] {
+                        0 => {
+                            state[w] = 1;
+                            stack.push((w, 0));
+                        }
+                        1 if !in_reported_cycle[w] => {
+                            let pos = stack.iter().position(|(x, _)| *x == w).unwrap_or(0);
+                            let cycle: Vec<usize> = stack[pos..].iter().map(|(x, _)| *x).collect();
+                            for &c in &cycle {
+                                in_reported_cycle[c] = true;
+                            }
+                            self.report_cycle(what, &cycle, deps, &name);
+                        }
+                        _ => {}
+                    }
+                } else {
+                    state[v] = 2;
+                    order.push(v);
+                    stack.pop();
+                }
+            }
+        }
+        order
+    }
+
+    fn report_cycle(
+        &mut self,
+        what: &str,
+        cycle: &[usize],
+        deps: &[Vec<(usize, Span)>],
+        name: &impl Fn(&Self, usize) -> String,
+    ) {
+        let names: Vec<String> = cycle.iter().map(|&i| name(self, i)).collect();
+        let mut path = names.join(" -> ");
+        path.push_str(&format!(" -> {}", names[0]));
+        // The reference closing each edge u -> v of the cycle.
+        let mut labels = Vec::new();
+        for (k, &u) in cycle.iter().enumerate() {
+            let v = cycle[(k + 1) % cycle.len()];
+            if let Some((_, span)) = deps[u].iter().find(|(w, _)| *w == v) {
+                labels.push((*span, format!("`{}` uses `{}`", names[k], name(self, v))));
+            }
+        }
+        let (span, label) = labels
+            .first()
+            .cloned()
+            .unwrap_or((Span::default(), String::new()));
+        let mut d = Diagnostic::error(
+            "cycle",
+            format!("{what} values depend on each other in a cycle: {path}"),
+            span,
+            label,
+        )
+        .with_help("define one of them by a number, or break the chain another way");
+        for (s, l) in labels.into_iter().skip(1) {
+            d = d.with_label(s, l);
+        }
+        self.error(d);
+    }
+
+    fn names_for_print(&self) -> OwnedNames {
+        OwnedNames {
+            parameters: self
+                .parameters
+                .iter()
+                .map(|p| p.name.text.clone())
+                .collect(),
+            endogenous: self
+                .endogenous
+                .iter()
+                .map(|p| p.name.text.clone())
+                .collect(),
+            exogenous: self.exogenous.iter().map(|p| p.name.text.clone()).collect(),
+        }
+    }
+
+    fn check_equations(&mut self) -> Vec<Equation> {
+        let mut out = Vec::with_capacity(self.equations.len());
+        for k in 0..self.equations.len() {
+            let q = self.equations[k];
+            let mut refs = Refs::default();
+            let lhs = self.lower(&q.lhs, Place::Equation, &mut refs);
+            let rhs = match &q.rhs {
+                Some(r) => self.lower(r, Place::Equation, &mut refs),
+                None => Some(Expr::Number(0.0)),
+            };
+            if let (Some(lhs), Some(rhs)) = (lhs, rhs) {
+                out.push(Equation {
+                    label: q.label.as_ref().map(|l| l.text.clone()),
+                    lhs,
+                    rhs,
+                });
+            }
+        }
+        // Equation labels must be unique (they name equations in messages and output).
+        let mut seen: HashMap<&str, Span> = HashMap::new();
+        for q in &self.equations {
+            if let Some(l) = &q.label {
+                if let Some(first) = seen.get(l.text.as_str()) {
+                    let d = Diagnostic::error(
+                        "duplicate",
+                        format!("equation label `{}` is used twice", l.text),
+                        l.span,
+                        "used again here",
+                    )
+                    .with_label(*first, "first used here")
+                    .with_help("each equation label names one equation");
+                    self.diags.push(d);
+                } else {
+                    seen.insert(l.text.as_str(), l.span);
+                }
+            }
+        }
+        out
+    }
+
+    fn check_counts(&mut self) {
+        let n_endo = self.endogenous.len();
+        let n_eq = self.equations.len();
+        if n_endo == 0 {
+            let span = self
+                .endogenous_header
+                .or(self.equations_header)
+                .unwrap_or_default();
+            self.error(
+                Diagnostic::error(
+                    "no-variables",
+                    "the model declares no endogenous variables",
+                    span,
+                    "",
+                )
+                .with_help("declare them in an `endogenous` section, one a line"),
+            );
+            return;
+        }
+        if n_eq != n_endo {
+            let list = |names: Vec<String>| {
+                const SHOWN: usize = 12;
+                let more = names.len().saturating_sub(SHOWN);
+                let mut s = names.into_iter().take(SHOWN).collect::<Vec<_>>().join(", ");
+                if more > 0 {
+                    s.push_str(&format!(", ... ({more} more)"));
+                }
+                s
+            };
+            let vars = list(
+                self.endogenous
+                    .iter()
+                    .map(|d| d.name.text.clone())
+                    .collect(),
+            );
+            let eqs = list(
+                self.equations
+                    .iter()
+                    .enumerate()
+                    .map(|(i, q)| match &q.label {
+                        Some(l) => l.text.clone(),
+                        None => format!("#{}", i + 1),
+                    })
+                    .collect(),
+            );
+            let span = self
+                .equations_header
+                .or(self.endogenous_header)
+                .unwrap_or_default();
+            let mut d = Diagnostic::error(
+                "equation-count",
+                format!(
+                    "the model has {n_eq} equation{} for {n_endo} endogenous variable{}",
+                    if n_eq == 1 { "" } else { "s" },
+                    if n_endo == 1 { "" } else { "s" }
+                ),
+                span,
+                format!("{n_eq} equations"),
+            )
+            .with_help(format!(
+                "there must be one equation per endogenous variable.\nendogenous ({n_endo}): {vars}\nequations ({n_eq}): {eqs}"
+            ));
+            if let (Some(h), Some(e)) = (self.endogenous_header, self.equations_header) {
+                if h != e {
+                    d = d.with_label(h, format!("{n_endo} endogenous variables"));
+                }
+            }
+            self.error(d);
+        }
+        for i in 0..n_endo {
+            if !self.used[i] {
+                let d = self.endogenous[i];
+                self.error(
+                    Diagnostic::error(
+                        "unused-variable",
+                        format!("endogenous variable `{}` appears in no equation", d.name.text),
+                        d.name.span,
+                        "declared here, never used",
+                    )
+                    .with_help("each endogenous variable must be determined by the equations; use it or remove it"),
+                );
+            }
+        }
+    }
+
+    fn shock(&mut self, name: &ast::Name) -> Option<usize> {
+        match self.names.get(name.text.as_str()).copied() {
+            Some((Symbol::Exogenous(i), _)) => Some(i),
+            Some((sym, decl)) => {
+                self.error(
+                    Diagnostic::error(
+                        "not-an-innovation",
+                        format!("`{}` is {}, not an innovation", name.text, sym.kind()),
+                        name.span,
+                        "covariance items name innovations",
+                    )
+                    .with_label(decl, "declared here"),
+                );
+                None
+            }
+            None => {
+                let mut d = Diagnostic::error(
+                    "unknown-name",
+                    format!("unknown innovation `{}`", name.text),
+                    name.span,
+                    "not declared",
+                );
+                if let Some(h) = self.suggest(&name.text, |s| matches!(s, Symbol::Exogenous(_))) {
+                    d = d.with_help(h);
+                } else {
+                    d = d.with_help("declare it in the exogenous section");
+                }
+                self.error(d);
+                None
+            }
+        }
+    }
+
+    fn check_covariance(
+        &mut self,
+        parameters: &[Parameter],
+    ) -> (Vec<CovarianceItem>, nalgebra::DMatrix<f64>, Vec<bool>) {
+        let n = self.exogenous.len();
+        let mut items = Vec::new();
+        let mut spans = Vec::new();
+        let mut ok = true;
+        for k in 0..self.covariance.len() {
+            let c = self.covariance[k];
+            let shocks: Vec<Option<usize>> = c.shocks.iter().map(|s| self.shock(s)).collect();
+            let mut refs = Refs::default();
+            let e = self.lower(&c.value, Place::Covariance, &mut refs);
+            let (Some(e), Some(Some(a))) = (e, shocks.first().copied()) else {
+                ok = false;
+                continue;
+            };
+            let b = match c.kind {
+                ast::CovarianceKind::Corr => match shocks.get(1).copied().flatten() {
+                    Some(b) => b,
+                    None => {
+                        ok = false;
+                        continue;
+                    }
+                },
+                _ => a,
+            };
+            let kind = match c.kind {
+                ast::CovarianceKind::Sd => CovarianceKind::Sd,
+                ast::CovarianceKind::Var => CovarianceKind::Var,
+                ast::CovarianceKind::Corr => CovarianceKind::Corr,
+            };
+            items.push(CovarianceItem {
+                kind,
+                shocks: (a, b),
+                expr: e,
+            });
+            spans.push(c.span);
+        }
+        let values: Vec<f64> = parameters.iter().map(|p| p.value).collect();
+        let parameters_ok = values.iter().all(|v| v.is_finite());
+        if parameters_ok {
+            match calibrate::build_covariance(n, &items, &values) {
+                Ok((sigma, given)) if ok => return (items, sigma, given),
+                Ok(_) => {}
+                Err(problems) => {
+                    for (k, p) in problems {
+                        let mut d = Diagnostic::error(
+                            "covariance",
+                            format!("invalid covariance item: {p}"),
+                            spans[k],
+                            "here",
+                        );
+                        match p {
+                            CovarianceProblem::DuplicateScale(first)
+                            | CovarianceProblem::DuplicateCorrelation(first) => {
+                                d.message =
+                                    "covariance given twice for the same innovations".into();
+                                d = d
+                                    .with_label(spans[first], "first given here")
+                                    .with_help("give each sd (or var) and each correlation once");
+                            }
+                            CovarianceProblem::NotPositiveSemidefinite(_) => {
+                                d.message = p.to_string();
+                                d.label = "among these correlations".into();
+                                d = d.with_help(
+                                    "some correlations contradict each other (for example a and b \
+                                     strongly positive, b and c too, but a and c strongly negative)",
+                                );
+                            }
+                            _ => {}
+                        }
+                        self.error(d);
+                    }
+                }
+            }
+        }
+        (items, nalgebra::DMatrix::identity(n, n), vec![false; n])
+    }
+
+    fn check_steady(&mut self, parameters: &[Parameter]) -> Vec<SteadyItem> {
+        let n_endo = self.endogenous.len();
+        let mut items: Vec<SteadyItem> = Vec::new();
+        let mut item_refs: Vec<Vec<(usize, Span)>> = Vec::new();
+        let mut item_decl: Vec<&ast::SteadyDecl> = Vec::new();
+        let mut known_at: Vec<Option<usize>> = vec![None; n_endo];
+        let mut guess_at: Vec<Option<usize>> = vec![None; n_endo];
+        for k in 0..self.steady.len() {
+            let s = self.steady[k];
+            let mut refs = Refs::default();
+            let e = self.lower(&s.value, Place::Steady, &mut refs);
+            let var = match self.names.get(s.name.text.as_str()).copied() {
+                Some((Symbol::Endogenous(i), _)) => Some(i),
+                Some((sym, decl)) => {
+                    self.error(
+                        Diagnostic::error(
+                            "not-a-variable",
+                            format!(
+                                "`{}` is {}; the steady section gives values of endogenous variables",
+                                s.name.text,
+                                sym.kind()
+                            ),
+                            s.name.span,
+                            "not an endogenous variable",
+                        )
+                        .with_label(decl, "declared here"),
+                    );
+                    None
+                }
+                None => {
+                    let mut d = Diagnostic::error(
+                        "unknown-name",
+                        format!("unknown name `{}`", s.name.text),
+                        s.name.span,
+                        "not declared",
+                    );
+                    if let Some(h) =
+                        self.suggest(&s.name.text, |s| matches!(s, Symbol::Endogenous(_)))
+                    {
+                        d = d.with_help(h);
+                    }
+                    self.error(d);
+                    None
+                }
+            };
+            let (Some(e), Some(var)) = (e, var) else {
+                continue;
+            };
+            let kind = if s.guess.is_some() {
+                SteadyKind::Guess
+            } else {
+                SteadyKind::Known
+            };
+            let slot = match kind {
+                SteadyKind::Known => &mut known_at,
+                SteadyKind::Guess => &mut guess_at,
+            };
+            if let Some(first) = slot[var] {
+                let first_span = item_decl[first].span;
+                self.error(
+                    Diagnostic::error(
+                        "duplicate",
+                        format!(
+                            "the steady section gives {} `{}` twice",
+                            if kind == SteadyKind::Guess {
+                                "a guess for"
+                            } else {
+                                "a value of"
+                            },
+                            s.name.text
+                        ),
+                        s.span,
+                        "given again here",
+                    )
+                    .with_label(first_span, "first given here"),
+                );
+                continue;
+            }
+            slot[var] = Some(items.len());
+            items.push(SteadyItem {
+                kind,
+                variable: var,
+                expr: e,
+            });
+            item_refs.push(refs.steady);
+            item_decl.push(s);
+        }
+        // Both a value and a guess for one variable: the guess would never be used.
+        for v in 0..n_endo {
+            if let (Some(a), Some(b)) = (known_at[v], guess_at[v]) {
+                let (first, second) = (a.min(b), a.max(b));
+                self.error(
+                    Diagnostic::error(
+                        "duplicate",
+                        format!(
+                            "the steady section gives both a value of and a guess for `{}`",
+                            self.endogenous[v].name.text
+                        ),
+                        item_decl[second].span,
+                        "here",
+                    )
+                    .with_label(item_decl[first].span, "and here")
+                    .with_help("a known value needs no guess; remove one of them"),
+                );
+            }
+        }
+        // Steady values may use only variables whose value is given.
+        let mut deps: Vec<Vec<(usize, Span)>> = vec![Vec::new(); items.len()];
+        let mut ok = true;
+        for (k, refs) in item_refs.iter().enumerate() {
+            for &(v, span) in refs {
+                match known_at[v] {
+                    Some(j) => deps[k].push((j, span)),
+                    None => {
+                        ok = false;
+                        let name = self.endogenous[v].name.text.clone();
+                        self.error(
+                            Diagnostic::error(
+                                "steady-unknown",
+                                format!("the steady-state value of `{name}` is not given"),
+                                span,
+                                "used here",
+                            )
+                            .with_help(format!(
+                                "give `{name} = ...` in the steady section, or write this value \
+                                 from parameters and given values only (guesses cannot be used)"
+                            )),
+                        );
+                    }
+                }
+            }
+        }
+        let order = self.order("steady-state", &deps, |c, k| {
+            c.endogenous[items_var(&items, k)].name.text.clone()
+        });
+        let values: Vec<f64> = parameters.iter().map(|p| p.value).collect();
+        if !ok || !values.iter().all(|v| v.is_finite()) {
+            return items;
+        }
+        let mut steady = vec![f64::NAN; n_endo];
+        for &k in &order {
+            let leaves = Values {
+                parameters: &values,
+                steady: &steady,
+            };
+            let v = items[k].expr.eval(&leaves);
+            if !deps[k]
+                .iter()
+                .all(|(j, _)| steady[items[*j].variable].is_finite())
+            {
+                continue;
+            }
+            if v.is_finite() {
+                if items[k].kind == SteadyKind::Known {
+                    steady[items[k].variable] = v;
+                }
+            } else {
+                let names = self.names_for_print();
+                let at = calibrate::non_finite_source(&items[k].expr, &leaves)
+                    .map(|s| print::expr_text(s, &names.view()))
+                    .unwrap_or_default();
+                let decl = item_decl[k];
+                self.error(
+                    Diagnostic::error(
+                        "not-finite",
+                        format!(
+                            "the steady {} `{}` is {} at the calibration",
+                            if items[k].kind == SteadyKind::Guess {
+                                "guess for"
+                            } else {
+                                "value of"
+                            },
+                            decl.name.text,
+                            describe_value(v)
+                        ),
+                        decl.value.span,
+                        format!("`{at}` is not finite"),
+                    )
+                    .with_help("check the values this expression uses"),
+                );
+            }
+        }
+        items
+    }
+
+    fn check_options(&mut self, parameters: &[Parameter]) -> ModelOptions {
+        let mut options = ModelOptions::default();
+        let mut seen: HashMap<&str, Span> = HashMap::new();
+        let values: Vec<f64> = parameters.iter().map(|p| p.value).collect();
+        let params_ok = values.iter().all(|v| v.is_finite());
+        for k in 0..self.options.len() {
+            let o = self.options[k];
+            let name = o.name.text.as_str();
+            const OPTIONS: [&str; 3] = ["discount", "threshold", "horizon"];
+            if !OPTIONS.contains(&name) {
+                let mut d = Diagnostic::error(
+                    "unknown-option",
+                    format!("unknown option `{name}`"),
+                    o.name.span,
+                    "not an option",
+                );
+                d = match did_you_mean(name, OPTIONS.iter().copied()) {
+                    Some(s) => d.with_help(format!("did you mean `{s}`?")),
+                    None => d.with_help("the options are discount, threshold and horizon"),
+                };
+                self.error(d);
+                continue;
+            }
+            if let Some(first) = seen.get(name) {
+                let d = Diagnostic::error(
+                    "duplicate",
+                    format!("option `{name}` is given twice"),
+                    o.name.span,
+                    "given again here",
+                )
+                .with_label(*first, "first given here");
+                self.error(d);
+                continue;
+            }
+            seen.insert(name, o.name.span);
+            if name == "horizon" {
+                match o.value.kind {
+                    ExprKind::Number {
+                        value,
+                        integer: true,
+                    } if value <= MAX_HORIZON as f64 => options.horizon = Some(value as u32),
+                    _ => self.error(
+                        Diagnostic::error(
+                            "bad-option",
+                            format!(
+                                "option `horizon` must be a whole number of periods from 0 to {MAX_HORIZON}"
+                            ),
+                            o.value.span,
+                            "not an integer literal in range",
+                        )
+                        .with_help("write it as a literal, as in `horizon = 40`"),
+                    ),
+                }
+                continue;
+            }
+            let mut refs = Refs::default();
+            let Some(e) = self.lower(&o.value, Place::Option, &mut refs) else {
+                continue;
+            };
+            if params_ok {
+                let v = e.eval(&Values {
+                    parameters: &values,
+                    steady: &[],
+                });
+                if !(v.is_finite() && v > 0.0) {
+                    self.error(
+                        Diagnostic::error(
+                            "bad-option",
+                            format!(
+                                "option `{name}` is {} at the calibration; it must be a positive finite number",
+                                number_or_word(v)
+                            ),
+                            o.value.span,
+                            "this value",
+                        )
+                        .with_help(if name == "discount" {
+                            "the discount factor b sets the stable-root threshold to 1/sqrt(b)"
+                        } else {
+                            "roots with modulus below the threshold count as stable"
+                        }),
+                    );
+                    continue;
+                }
+            }
+            if name == "discount" {
+                options.discount = Some(e);
+            } else {
+                options.threshold = Some(e);
+            }
+        }
+        options
+    }
+}
+
+fn items_var(items: &[SteadyItem], k: usize) -> usize {
+    items.get(k).map_or(0, |s| s.variable)
+}
+
+/// Names owned by the checker for printing sub-expressions in messages.
+struct OwnedNames {
+    parameters: Vec<String>,
+    endogenous: Vec<String>,
+    exogenous: Vec<String>,
+}
+
+impl OwnedNames {
+    fn view(&self) -> Names<'_> {
+        Names {
+            parameters: self.parameters.iter().map(String::as_str).collect(),
+            endogenous: self.endogenous.iter().map(String::as_str).collect(),
+            exogenous: self.exogenous.iter().map(String::as_str).collect(),
+        }
+    }
+}
+
+fn non_finite_value(e: &Expr, leaves: &Values, at: &str, names: &Names) -> f64 {
+    match calibrate::non_finite_source(e, leaves) {
+        Some(s) if print::expr_text(s, names) == at => s.eval(leaves),
+        _ => e.eval(leaves),
+    }
+}
+
+fn describe_value(v: f64) -> &'static str {
+    if v.is_nan() {
+        "NaN (not a number)"
+    } else if v > 0.0 {
+        "infinite"
+    } else {
+        "minus infinity"
+    }
+}
+
+fn number_or_word(v: f64) -> String {
+    if v.is_finite() {
+        let s = format!("{v:.6}");
+        s.trim_end_matches('0').trim_end_matches('.').to_string()
+    } else {
+        describe_value(v).to_string()
+    }
+}
+
+fn capitalize(s: &str) -> String {
+    let mut c = s.chars();
+    match c.next() {
+        Some(f) => f.to_uppercase().collect::<String>() + c.as_str(),
+        None => String::new(),
+    }
+}

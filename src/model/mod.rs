@@ -6,12 +6,15 @@
 //! see source text. The front end ([`check`]) builds it from the syntax tree; [`Model::with_overrides`]
 //! re-evaluates it for `--set NAME=VALUE`.
 
+pub mod calibrate;
 pub mod check;
 pub mod expr;
 pub mod print;
 
 use nalgebra::DMatrix;
 
+pub use calibrate::OverrideError;
+pub use check::check_source;
 pub use expr::{BinaryOp, Expr, Function, Function2, Leaves, MAX_EXPR_DEPTH};
 
 /// An endogenous variable.

@@ -1,0 +1,179 @@
+//! Diagnostics: what the front end tells a person about a model file.
+//!
+//! Contract: a [`Diagnostic`] is one problem with one primary source [`Span`] (the place to fix),
+//! a short label drawn under it, optional secondary labels (for example "first declared here"),
+//! and optional help text (for example "did you mean `infl`?"). It implements
+//! [`miette::Diagnostic`]; [`render`] draws a list of them against the source text.
+
+use std::fmt;
+
+use super::span::Span;
+
+/// How serious a diagnostic is. Only errors stop a model from being checked.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Severity {
+    Error,
+    Warning,
+}
+
+/// A secondary label: a span with a note.
+#[derive(Debug, Clone, PartialEq, Eq)]
+pub struct Label {
+    pub span: Span,
+    pub text: String,
+}
+
+/// One problem in a model file.
+#[derive(Debug, Clone, PartialEq, Eq)]
+pub struct Diagnostic {
+    pub severity: Severity,
+    /// A stable short name of the kind of problem (for example `unknown-name`), for tests and tools.
+    pub code: &'static str,
+    /// The sentence a person reads first.
+    pub message: String,
+    /// Where to look (primary label).
+    pub span: Span,
+    /// Text under the primary span.
+    pub label: String,
+    /// Other places that explain the problem.
+    pub labels: Vec<Label>,
+    pub help: Option<String>,
+}
+
+impl Diagnostic {
+    /// An error of kind `code` at `span`, labelled `label`.
+    pub fn error(
+        code: &'static str,
+        message: impl Into<String>,
+        span: Span,
+        label: impl Into<String>,
+    ) -> Diagnostic {
+        Diagnostic {
+            severity: Severity::Error,
+            code,
+            message: message.into(),
+            span,
+            label: label.into(),
+            labels: Vec::new(),
+            help: None,
+        }
+    }
+
+    /// Adds a secondary label; returns the diagnostic.
+    pub fn with_label(mut self, span: Span, text: impl Into<String>) -> Diagnostic {
+        self.labels.push(Label {
+            span,
+            text: text.into(),
+        });
+        self
+    }
+
+    /// Sets the help text; returns the diagnostic.
+    pub fn with_help(mut self, help: impl Into<String>) -> Diagnostic {
+        self.help = Some(help.into());
+        self
+    }
+
+    pub fn is_error(&self) -> bool {
+        self.severity == Severity::Error
+    }
+
+    /// Makes every span drawable in `source` (see [`Span::visible_in`]); returns the diagnostic.
+    pub fn visible_in(mut self, source: &str) -> Diagnostic {
+        self.span = self.span.visible_in(source);
+        for l in &mut self.labels {
+            l.span = l.span.visible_in(source);
+        }
+        self
+    }
+}
+
+impl fmt::Display for Diagnostic {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        f.write_str(&self.message)
+    }
+}
+
+impl std::error::Error for Diagnostic {}
+
+impl miette::Diagnostic for Diagnostic {
+    fn severity(&self) -> Option<miette::Severity> {
+        Some(match self.severity {
+            Severity::Error => miette::Severity::Error,
+            Severity::Warning => miette::Severity::Warning,
+        })
+    }
+
+    fn help<'a>(&'a self) -> Option<Box<dyn fmt::Display + 'a>> {
+        self.help
+            .as_ref()
+            .map(|h| Box::new(h) as Box<dyn fmt::Display + 'a>)
+    }
+
+    fn labels(&self) -> Option<Box<dyn Iterator<Item = miette::LabeledSpan> + '_>> {
+        let primary = miette::LabeledSpan::new_primary_with_span(
+            (!self.label.is_empty()).then(|| self.label.clone()),
+            self.span,
+        );
+        let rest = self
+            .labels
+            .iter()
+            .map(|l| miette::LabeledSpan::new_with_span(Some(l.text.clone()), l.span));
+        Some(Box::new(std::iter::once(primary).chain(rest)))
+    }
+}
+
+/// Most diagnostics reported for one file; beyond this a single note says how many were left out
+/// (a cascade of hundreds of errors helps nobody, and the limit bounds the output for hostile input).
+pub const MAX_DIAGNOSTICS: usize = 50;
+
+/// Sorts diagnostics by position and truncates the list to [`MAX_DIAGNOSTICS`], adding a note that
+/// says how many were dropped. Overwrites `diags`.
+pub fn finish(diags: &mut Vec<Diagnostic>) {
+    diags.sort_by_key(|d| (d.span.start, d.span.end));
+    diags.dedup_by(|a, b| a.span == b.span && a.message == b.message);
+    if diags.len() > MAX_DIAGNOSTICS {
+        let dropped = diags.len() - MAX_DIAGNOSTICS;
+        diags.truncate(MAX_DIAGNOSTICS);
+        let span = diags.last().map_or(Span::default(), |d| d.span);
+        diags.push(Diagnostic::error(
+            "too-many-errors",
+            format!("{dropped} more errors not shown (the first {MAX_DIAGNOSTICS} are above)"),
+            span,
+            "",
+        ));
+    }
+}
+
+/// Whether to colour reports.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Colour {
+    Never,
+    Always,
+}
+
+/// Draws each diagnostic as a miette report against `source` (named `file_name` in the report
+/// headers, which read `[file:line:column]`); returns the text, reports separated by a blank line.
+pub fn render(diags: &[Diagnostic], file_name: &str, source: &str, colour: Colour) -> String {
+    let theme = match colour {
+        Colour::Always => miette::GraphicalTheme::unicode(),
+        Colour::Never => miette::GraphicalTheme::unicode_nocolor(),
+    };
+    let handler = miette::GraphicalReportHandler::new_themed(theme)
+        .with_width(100)
+        .with_wrap_lines(false)
+        .with_links(false);
+    let named = std::sync::Arc::new(miette::NamedSource::new(file_name, source.to_string()));
+    let mut out = String::new();
+    for d in diags {
+        let d = d.clone().visible_in(source);
+        let report = miette::Report::new(d).with_source_code(named.clone());
+        let mut one = String::new();
+        if handler.render_report(&mut one, report.as_ref()).is_err() {
+            one = format!("error: {report}\n");
+        }
+        out.push_str(&one);
+        out.push('\n');
+    }
+    out
+}

@@ -1,0 +1,138 @@
+//! Hostile input: deep nesting, huge lines, long operator chains and binary data give a clear
+//! error quickly, never a stack overflow, a hang or a panic.
+
+use std::process::Command;
+use std::time::{Duration, Instant};
+
+use saddle::model::print::print_model;
+use saddle::model::{check_source, MAX_EXPR_DEPTH};
+
+/// Generous bound for one hostile input in the debug-profile test build (opt-level 2); the real
+/// cost is a few milliseconds per megabyte.
+const QUICK: Duration = Duration::from_secs(5);
+
+fn codes(src: &str) -> Vec<&'static str> {
+    let started = Instant::now();
+    let r = check_source(src);
+    assert!(started.elapsed() < QUICK, "took {:?}", started.elapsed());
+    r.expect_err("hostile input must not check")
+        .iter()
+        .map(|d| d.code)
+        .collect()
+}
+
+const HEAD: &str = "endogenous\n  x\nequations\n  x = ";
+
+#[test]
+fn two_hundred_thousand_nested_parentheses() {
+    let n = 200_000;
+    let src = format!("{HEAD}{}1{}\n", "(".repeat(n), ")".repeat(n));
+    assert_eq!(codes(&src), ["too-deep"]);
+    // Unclosed too.
+    let src = format!("{HEAD}{}1\n", "(".repeat(n));
+    assert_eq!(codes(&src), ["too-deep"]);
+    // Square brackets the same way.
+    // `x[[` is also a syntax error, reported beside the depth.
+    let src = format!("{HEAD}x{}t\n", "[".repeat(n));
+    let c = codes(&src);
+    assert!(c.contains(&"too-deep") && c.len() <= 2, "{c:?}");
+}
+
+#[test]
+fn a_five_megabyte_line() {
+    let terms = 5_000_000 / 2;
+    let src = format!("{HEAD}{}1\n", "1+".repeat(terms));
+    assert_eq!(codes(&src), ["line-too-long"]);
+    let src = format!("endogenous\n  {}\n", "a".repeat(5_000_000));
+    assert_eq!(codes(&src), ["line-too-long"]);
+    let src = format!("# {}\n", "#".repeat(5_000_000));
+    assert_eq!(codes(&src), ["line-too-long"]);
+}
+
+#[test]
+fn long_chains_within_the_line_limit_are_refused_by_depth() {
+    // 40,000 terms of a sum (left-nested), a power tower (right-nested), unary minus signs,
+    // all under the token limit of a statement.
+    let sum = format!("{HEAD}{}x\n", "x + ".repeat(40_000));
+    assert_eq!(codes(&sum), ["too-deep"]);
+    let tower = format!("{HEAD}{}2\n", "2^".repeat(40_000));
+    assert_eq!(codes(&tower), ["too-deep"]);
+    let minus = format!("{HEAD}{}x\n", "-".repeat(60_000));
+    assert_eq!(codes(&minus), ["too-deep"]);
+    // Past the token limit of one statement (continued over many lines).
+    let many = format!("{HEAD}{}x\n", "x +\n".repeat(150_000));
+    let c = codes(&many);
+    assert!(c.contains(&"statement-too-long") && c.len() <= 2, "{c:?}");
+}
+
+#[test]
+fn nesting_just_under_the_limit_checks_and_round_trips_on_a_test_thread() {
+    // A sum of MAX_EXPR_DEPTH - 20 terms nests that deep: it must check, print and read back in
+    // the default 2 MiB stack of a test thread.
+    let n = MAX_EXPR_DEPTH - 20;
+    let src = format!("{HEAD}{}x[t-1]\n", "0.5 * x[t-1] + ".repeat(n));
+    let m = check_source(&src).unwrap();
+    let again = check_source(&print_model(&m)).unwrap();
+    assert_eq!(m, again);
+    // Nested function calls below the bracket limit are fine too.
+    let src = format!("{HEAD}{}x[t-1]{}\n", "abs(".repeat(200), ")".repeat(200));
+    check_source(&src).unwrap();
+}
+
+#[test]
+fn many_errors_are_capped() {
+    let mut src = String::from("endogenous\n  x\nequations\n  x = x[t-1]\nparameters\n");
+    for i in 0..5000 {
+        src.push_str(&format!("  p{i} = unknown_{i}\n"));
+    }
+    let started = Instant::now();
+    let d = check_source(&src).unwrap_err();
+    assert!(started.elapsed() < QUICK);
+    assert_eq!(d.len(), saddle::language::diagnostics::MAX_DIAGNOSTICS + 1);
+    assert!(d.last().unwrap().message.contains("more errors not shown"));
+}
+
+#[test]
+fn control_characters_and_nul_are_bad_characters_in_process() {
+    let src = "endogenous\n  x\u{0}y\nequations\n  x = \u{7}1\n";
+    let c = codes(src);
+    assert!(c.iter().all(|c| *c == "bad-character"), "{c:?}");
+}
+
+#[test]
+fn hostile_files_through_the_binary() {
+    let dir = tempfile::tempdir().unwrap();
+    let cases: Vec<(&str, Vec<u8>, &str)> = vec![
+        (
+            "parens.saddle",
+            format!("{HEAD}{}1\n", "(".repeat(200_000)).into_bytes(),
+            "brackets nested more than",
+        ),
+        (
+            "line.saddle",
+            format!("{HEAD}{}1\n", "1+".repeat(2_500_000)).into_bytes(),
+            "line is 5000",
+        ),
+        (
+            "random.bin",
+            (0..4096u32).map(|i| (i.wrapping_mul(2_654_435_761) >> 13) as u8).collect(),
+            "not a text model file",
+        ),
+    ];
+    for (name, bytes, expect) in cases {
+        let p = dir.path().join(name);
+        std::fs::write(&p, bytes).unwrap();
+        let started = Instant::now();
+        let out = Command::new(env!("CARGO_BIN_EXE_saddle"))
+            .arg("check")
+            .arg(&p)
+            .env("NO_COLOR", "1")
+            .output()
+            .unwrap();
+        assert!(started.elapsed() < QUICK, "{name}: {:?}", started.elapsed());
+        assert_eq!(out.status.code(), Some(1), "{name}");
+        let err = String::from_utf8_lossy(&out.stderr);
+        assert!(err.contains(expect), "{name}: {err}");
+        assert!(!err.contains("panicked"), "{name}: {err}");
+    }
+}
