@@ -536,3 +536,93 @@ fn status_map_survives_mismatch_and_huge_or_odd_axes() {
     assert!(svg.len() < 200_000, "{}", svg.len());
     assert!(svg.contains("drawn at every 9th point"));
 }
+
+mod properties {
+    use super::*;
+    use proptest::prelude::*;
+
+    fn value() -> impl Strategy<Value = f64> {
+        prop_oneof![
+            8 => -1e3f64..1e3,
+            1 => -1e-14f64..1e-14,
+            1 => Just(f64::NAN),
+            1 => Just(f64::INFINITY),
+            1 => Just(f64::NEG_INFINITY),
+            1 => Just(1e305),
+            1 => Just(-1e305),
+            1 => Just(0.0),
+            1 => -1e12f64..1e12,
+        ]
+    }
+
+    fn panel() -> impl Strategy<Value = Panel> {
+        (
+            ".{0,80}",
+            proptest::option::of(".{0,120}"),
+            proptest::collection::vec(
+                (".{0,12}", proptest::collection::vec(value(), 0..60)),
+                0..4,
+            ),
+        )
+            .prop_map(|(title, subtitle, series)| Panel {
+                title,
+                subtitle,
+                series: series
+                    .into_iter()
+                    .map(|(name, values)| Series { name, values })
+                    .collect(),
+            })
+    }
+
+    proptest! {
+        #![proptest_config(ProptestConfig::with_cases(64))]
+
+        /// Any data and any text give a balanced document with finite coordinates.
+        #[test]
+        fn any_grid_renders(
+            title in ".{0,100}",
+            panels in proptest::collection::vec(panel(), 0..10),
+            levels in any::<bool>(),
+            first in -5i64..5,
+        ) {
+            let grid = PanelGrid { title, x_label: "period".into(), y_label: Some("y <&>".into()), panels };
+            let svg = panel_grid_with(&grid, &GridOptions {
+                y_range: if levels { YRange::Data } else { YRange::IncludeZero },
+                first_period: first,
+                ..GridOptions::default()
+            });
+            assert_balanced(&svg);
+            assert_coordinates_finite(&svg);
+            prop_assert_eq!(svg.matches("<g class=\"panel\"").count(), grid.panels.len());
+        }
+
+        /// Any statuses and axis values give a balanced map with finite coordinates.
+        #[test]
+        fn any_status_map_renders(
+            xs in proptest::collection::vec(value(), 0..20),
+            ys in proptest::option::of(proptest::collection::vec(value(), 0..20)),
+            status in proptest::collection::vec(
+                prop_oneof![
+                    Just("determinate".to_string()),
+                    Just("indeterminate".to_string()),
+                    Just("no_stable_solution".to_string()),
+                    Just("rank_failure".to_string()),
+                    Just("error".to_string()),
+                    ".{0,10}",
+                ],
+                0..500,
+            ),
+        ) {
+            let map = StatusMap {
+                title: "t".into(),
+                x_name: "a <b>".into(),
+                x_values: xs,
+                y: ys.map(|v| ("c & d".to_string(), v)),
+                status,
+            };
+            let svg = status_map(&map);
+            assert_balanced(&svg);
+            assert_coordinates_finite(&svg);
+        }
+    }
+}
