@@ -11,10 +11,8 @@
 
 use nalgebra::DMatrix;
 
-use super::svg::{
-    escape, panel_grid_with, root_plot, status_colour, GridOptions, Panel, PanelGrid, Series,
-    YRange,
-};
+use super::svg::charts::{impulse_response_grids, impulse_words, shock_labels, variable_subtitles};
+use super::svg::{escape, panel_grid_with, root_plot, status_colour, GridOptions, YRange};
 use crate::model::{Expr, Model};
 use crate::solution::{SolvedModel, Status};
 
@@ -660,55 +658,27 @@ fn section_irf(h: &mut String, input: &ReportInput) {
         ));
         return;
     };
-    let size = if irf.size == "unit" {
-        "a unit impulse"
-    } else {
-        "a one-standard-deviation impulse"
-    };
+    let size = impulse_words(irf.size);
     h.push_str(&format!(
         "<p>Responses to {size} in each innovation at period 0, over {} periods, in deviations from the steady state. Each panel has its own scale.</p>\n",
         irf.horizon
     ));
     let m = input.model;
-    for (k, shock) in irf.shocks.iter().enumerate() {
-        let Some(resp) = irf.responses.get(k) else {
-            continue;
-        };
-        let shock_label = m
-            .exogenous
-            .iter()
-            .find(|e| &e.name == shock)
-            .and_then(|e| e.label.clone());
-        let panels: Vec<Panel> = irf
-            .variables
-            .iter()
-            .enumerate()
-            .filter(|(i, _)| *i < resp.nrows())
-            .map(|(i, v)| Panel {
-                title: v.clone(),
-                subtitle: variable_subtitle(m, s, v),
-                series: vec![Series {
-                    name: shock.clone(),
-                    values: resp.row(i).iter().copied().collect(),
-                }],
-            })
-            .collect();
-        let title = match &shock_label {
-            Some(l) => format!("Responses to {size} in {shock} ({l})"),
-            None => format!("Responses to {size} in {shock}"),
-        };
-        let grid = PanelGrid {
-            title,
-            x_label: "periods after the impulse".to_string(),
-            y_label: Some("deviation from steady state".to_string()),
-            panels,
-        };
+    let grids = impulse_response_grids(
+        irf.shocks,
+        &shock_labels(m, irf.shocks),
+        irf.variables,
+        &variable_subtitles(m, irf.variables, true),
+        irf.responses,
+        irf.size,
+    );
+    for ((shock, resp), grid) in irf.shocks.iter().zip(irf.responses).zip(&grids) {
         h.push_str(&format!(
             "<figure class=\"chart\" id=\"irf-{}\">\n",
             escape(&slug(shock))
         ));
         h.push_str(&panel_grid_with(
-            &grid,
+            grid,
             &GridOptions {
                 width: Some(960.0),
                 y_range: YRange::IncludeZero,
@@ -750,27 +720,6 @@ fn section_irf(h: &mut String, input: &ReportInput) {
         ));
     }
     h.push_str("</section>\n");
-}
-
-/// A panel's subtitle: the variable's label (its units), and "log deviation" for log variables.
-fn variable_subtitle(m: &Model, s: &SolvedModel, name: &str) -> Option<String> {
-    let label = m
-        .endogenous
-        .iter()
-        .find(|v| v.name == name)
-        .and_then(|v| v.label.clone());
-    let log = s
-        .variables
-        .iter()
-        .position(|v| v == name)
-        .and_then(|i| s.log.get(i).copied())
-        .unwrap_or(false);
-    match (label, log) {
-        (Some(l), true) => Some(format!("{l} (log deviation)")),
-        (Some(l), false) => Some(l),
-        (None, true) => Some("log deviation".to_string()),
-        (None, false) => None,
-    }
 }
 
 fn section_moments(h: &mut String, input: &ReportInput) {

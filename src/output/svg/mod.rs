@@ -15,6 +15,7 @@
 //! figures and presentations that are friendly to colorblind people"), distinguishable under the
 //! common forms of colour blindness; statuses also carry hatching so they survive greyscale print.
 
+pub mod charts;
 mod layout;
 mod panels;
 mod roots;
