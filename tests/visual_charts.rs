@@ -307,7 +307,7 @@ fn non_finite_constant_and_negligible_series_are_handled() {
         assert!(!svg.contains("NaN") && !svg.contains("inf"));
         assert_eq!(svg.matches("<g class=\"panel\"").count(), 5);
         let messages = texts_of_class(&svg, "panel-message");
-        assert!(messages.contains(&"zero at every period (to rounding)".to_string()));
+        assert!(messages.contains(&"zero throughout (to rounding)".to_string()));
         assert!(messages.contains(&"no finite values to draw".to_string()));
         // The NaN and the infinity split the first panel's line in three pieces.
         let first = &svg[svg.find("data-title=\"gaps\"").unwrap()..];
@@ -559,10 +559,7 @@ mod properties {
         (
             ".{0,80}",
             proptest::option::of(".{0,120}"),
-            proptest::collection::vec(
-                (".{0,12}", proptest::collection::vec(value(), 0..60)),
-                0..4,
-            ),
+            proptest::collection::vec((".{0,12}", proptest::collection::vec(value(), 0..60)), 0..4),
         )
             .prop_map(|(title, subtitle, series)| Panel {
                 title,
@@ -624,5 +621,36 @@ mod properties {
             assert_balanced(&svg);
             assert_coordinates_finite(&svg);
         }
+    }
+}
+
+#[test]
+fn many_and_single_panel_layouts() {
+    let mk = |n: usize| PanelGrid {
+        title: format!("Responses of {n} variables to a one-standard-deviation impulse in e_tech (technology)"),
+        x_label: "periods after the impulse".to_string(),
+        y_label: Some("deviation from steady state".to_string()),
+        panels: (0..n)
+            .map(|i| Panel {
+                title: format!("var_{i}"),
+                subtitle: Some(format!("variable number {i}, percent of steady state")),
+                series: vec![Series {
+                    name: "e_tech".to_string(),
+                    values: (0..=40)
+                        .map(|t| {
+                            let t = t as f64;
+                            (i as f64 - 5.0) * 10f64.powi(i as i32 - 6) * (t * 0.3).sin() * 0.9f64.powf(t)
+                        })
+                        .collect(),
+                }],
+            })
+            .collect(),
+    };
+    for n in [1usize, 12] {
+        let svg = panel_grid(&mk(n));
+        keep(&format!("layout_{n}.svg"), &svg);
+        assert_balanced(&svg);
+        assert_coordinates_finite(&svg);
+        assert_eq!(svg.matches("<g class=\"panel\"").count(), n);
     }
 }

@@ -62,8 +62,10 @@ pub const MAX_PLOTTABLE: f64 = 1e300;
 
 /// A panel whose largest magnitude is below this fraction of the grid's largest is drawn as
 /// zero: double-precision solutions carry round-off near 1e-16 times the scale of the matrices,
-/// and magnifying it into a shape would show a response that is not there.
-pub const NEGLIGIBLE_RELATIVE: f64 = 1e-10;
+/// and magnifying it into a shape would show a response that is not there. 1e-12 leaves four
+/// orders of magnitude above round-off and keeps genuine responses of variables in very
+/// different units (a level in millions beside a rate in hundredths is a ratio near 1e-8).
+pub const NEGLIGIBLE_RELATIVE: f64 = 1e-12;
 
 /// A series whose range is below this fraction of its magnitude is treated as constant (the
 /// relative spread of round-off in a constant computed in double precision; far below any
@@ -654,7 +656,7 @@ fn draw_series(
     let (lo, hi) = scale.range();
     let message = match scale {
         Scale::Empty => Some("no finite values to draw"),
-        Scale::Zero => Some("zero at every period (to rounding)"),
+        Scale::Zero => Some("zero throughout (to rounding)"),
         Scale::Data { .. } => None,
     };
     let columns = ((g.x1 - g.x0).ceil() as usize).max(1);
