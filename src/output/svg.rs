@@ -1,1 +1,0 @@
-//! (under construction)
