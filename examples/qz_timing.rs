@@ -90,7 +90,9 @@ fn main() {
             }
         }
         if let Some(g) = last {
-            let be = g.backward_error(&a.map(|x| C64::new(x, 0.0)), &b.map(|x| C64::new(x, 0.0)));
+            let be = g
+                .backward_error(&a.map(|x| C64::new(x, 0.0)), &b.map(|x| C64::new(x, 0.0)))
+                .unwrap_or(f64::NAN);
             println!(
                 "{{\"file\": {}, \"n\": {}, \"best_ms\": {:.3}, \"backward_error\": {:.3e}}}",
                 json_string(path),

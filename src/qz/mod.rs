@@ -260,8 +260,7 @@ impl GeneralizedSchur {
             q.as_mut_slice(),
             z.as_mut_slice(),
             n,
-            ilo,
-            ihi,
+            ilo..=ihi,
             params,
         )?;
         balance::scale_by_power_of_two(s.as_mut_slice(), ea);
@@ -354,8 +353,17 @@ impl GeneralizedSchur {
 
     /// The backward error of the factors against a pencil: the larger of
     /// `||Q S Z^H - A||_F / ||A||_F` and `||Q T Z^H - B||_F / ||B||_F` (a zero matrix counts
-    /// its residual absolutely).
-    pub fn backward_error(&self, a: &DMatrix<C64>, b: &DMatrix<C64>) -> f64 {
+    /// its residual absolutely). Returns `DimensionMismatch` if A or B is not n x n.
+    pub fn backward_error(&self, a: &DMatrix<C64>, b: &DMatrix<C64>) -> Result<f64, QzError> {
+        let n = self.dim();
+        if a.shape() != (n, n) || b.shape() != (n, n) {
+            return Err(QzError::DimensionMismatch {
+                a_rows: a.nrows(),
+                a_cols: a.ncols(),
+                b_rows: b.nrows(),
+                b_cols: b.ncols(),
+            });
+        }
         let rel = |m: &DMatrix<C64>, f: &DMatrix<C64>| {
             let r = iteration::frobenius((&self.q * f * self.z.adjoint() - m).as_slice());
             let nm = iteration::frobenius(m.as_slice());
@@ -365,7 +373,7 @@ impl GeneralizedSchur {
                 r
             }
         };
-        rel(a, &self.s).max(rel(b, &self.t))
+        Ok(rel(a, &self.s).max(rel(b, &self.t)))
     }
 
     /// Left unitary factor Q.
