@@ -29,6 +29,16 @@
 //!
 //! Selection for reordering never forms `alpha / beta`: the solver's test
 //! `|alpha| < tau |beta|` is false for every infinite eigenvalue (`beta = 0`).
+//!
+//! Two consequences of working with norm-wise tolerances, which callers should know:
+//! * a pencil whose equations (rows) differ in scale by a factor near 1/EPS is singular to
+//!   working precision relative to its norm, and its small rows' eigenvalues are not determined
+//!   by a norm-wise backward-stable method; scale the equations first (the power-of-two
+//!   [`balance::row_equilibration_exponents`] does it, and the caller owns the mapping back);
+//! * a root within rounding of the selection boundary (|alpha| = tau |beta| to about EPS, e.g.
+//!   a unit root against tau = 1) can change side during the swaps, which the final check
+//!   reports as `ReorderCheckFailed`; classify such roots with
+//!   [`GeneralizedSchur::classify`] before reordering.
 
 pub mod balance;
 pub mod error;
