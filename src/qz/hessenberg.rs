@@ -7,7 +7,7 @@
 //! subdiagonal from the bottom up; each such row rotation puts one entry below T's diagonal,
 //! which a column rotation on the same two columns removes at once.
 //!
-//! Generic over the scalar ([`Entry`]): real input is reduced in real arithmetic (about a
+//! Generic over the scalar (`Entry`: f64 or C64): real input is reduced in real arithmetic (about a
 //! quarter of the complex work) and converted to complex afterwards.
 
 use super::rotation::{rotate_columns, rotate_rows, Entry, Rotation};
