@@ -95,12 +95,14 @@ fn main() {
                 h.reorder(sel).ok()
             });
             let be = if is_real {
-                h.backward_error(&ac, &bc)
+                h.backward_error(&ac, &bc).unwrap_or(f64::NAN)
             } else {
-                h.backward_error(&cplx_a, &cplx_b)
+                h.backward_error(&cplx_a, &cplx_b).unwrap_or(f64::NAN)
             };
             let k = k.map(|k| k.to_string()).unwrap_or_else(|e| e.to_string());
-            println!("{n:>5} {label:>8} {t_dec:>12.3} {t_ord:>12.3} {t_tot:>12.3} {be:>14.2e} {k:>12}");
+            println!(
+                "{n:>5} {label:>8} {t_dec:>12.3} {t_ord:>12.3} {t_tot:>12.3} {be:>14.2e} {k:>12}"
+            );
         }
     }
 }

@@ -5,7 +5,9 @@
 //! runs the complex QZ of the real pencil with reordering by |alpha| < |beta|, repeated within a
 //! small time budget (at least 3 runs, at most 100, about 2 s), and prints one JSON line
 //! `{"file": ..., "n": ..., "best_ms": ..., "backward_error": ...}` where the backward error is
-//! max(||Q S Z^H - A||_F / ||A||_F, ||Q T Z^H - B||_F / ||B||_F) of the last run.
+//! max(||Q S Z^H - A||_F / ||A||_F, ||Q T Z^H - B||_F / ||B||_F) of the last run. Setting the
+//! environment variable `QZ_TIMING_REPS=k` (1..=1000) runs exactly k repetitions instead, for
+//! profiling with a fixed amount of work.
 
 use nalgebra::DMatrix;
 use saddle::qz::{GeneralizedSchur, C64};
@@ -73,7 +75,15 @@ fn main() {
         let mut spent = Duration::ZERO;
         let mut reps = 0;
         let mut last = None;
-        while reps < 3 || (spent < BUDGET && reps < 100) {
+        // QZ_TIMING_REPS=k runs exactly k repetitions (for profiling with fixed work).
+        let fixed: Option<usize> = std::env::var("QZ_TIMING_REPS")
+            .ok()
+            .and_then(|v| v.parse().ok())
+            .filter(|&k: &usize| (1..=1000).contains(&k));
+        while match fixed {
+            Some(k) => reps < k,
+            None => reps < 3 || (spent < BUDGET && reps < 100),
+        } {
             let t0 = Instant::now();
             let r = run();
             let d = t0.elapsed();
@@ -90,7 +100,9 @@ fn main() {
             }
         }
         if let Some(g) = last {
-            let be = g.backward_error(&a.map(|x| C64::new(x, 0.0)), &b.map(|x| C64::new(x, 0.0)));
+            let be = g
+                .backward_error(&a.map(|x| C64::new(x, 0.0)), &b.map(|x| C64::new(x, 0.0)))
+                .unwrap_or(f64::NAN);
             println!(
                 "{{\"file\": {}, \"n\": {}, \"best_ms\": {:.3}, \"backward_error\": {:.3e}}}",
                 json_string(path),

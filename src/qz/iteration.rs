@@ -283,7 +283,7 @@ pub(crate) fn frobenius<E: Entry>(m: &[E]) -> f64 {
 }
 
 /// Runs the QZ iteration on the Hessenberg-triangular pair `(h, t)` (n x n, column-major) whose
-/// active block is `ilo..=ihi` (outside it `h` is already upper triangular).
+/// active block is `active = ilo..=ihi` (outside it `h` is already upper triangular).
 /// Overwrites `h` with the upper-triangular S (exact zeros below the diagonal), `t` with T
 /// (upper triangular, real non-negative diagonal), and post-multiplies the accumulated `q`, `z`
 /// by the rotations used, so `Q^H A Z = S`, `Q^H B Z = T` continue to hold. The tolerances use
@@ -297,13 +297,13 @@ pub(crate) fn qz_iterate(
     q: &mut [C64],
     z: &mut [C64],
     n: usize,
-    ilo: usize,
-    ihi: usize,
+    active: std::ops::RangeInclusive<usize>,
     params: &QzParams,
 ) -> Result<(), QzError> {
     if n == 0 {
         return Ok(());
     }
+    let (ilo, ihi) = (*active.start(), *active.end());
     let block_norm = |m: &[C64]| {
         let cols: Vec<f64> = (ilo..=ihi)
             .map(|j| frobenius(&m[j * n + ilo..j * n + ihi + 1]))
@@ -455,8 +455,7 @@ mod tests {
                 q.as_mut_slice(),
                 z.as_mut_slice(),
                 n,
-                0,
-                n - 1,
+                0..=n - 1,
                 &QzParams::default(),
             )
             .unwrap();

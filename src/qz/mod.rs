@@ -29,6 +29,16 @@
 //!
 //! Selection for reordering never forms `alpha / beta`: the solver's test
 //! `|alpha| < tau |beta|` is false for every infinite eigenvalue (`beta = 0`).
+//!
+//! Two consequences of working with norm-wise tolerances, which callers should know:
+//! * a pencil whose equations (rows) differ in scale by a factor near 1/EPS is singular to
+//!   working precision relative to its norm, and its small rows' eigenvalues are not determined
+//!   by a norm-wise backward-stable method; scale the equations first (the power-of-two
+//!   [`balance::row_equilibration_exponents`] does it, and the caller owns the mapping back);
+//! * a root within rounding of the selection boundary (|alpha| = tau |beta| to about EPS, e.g.
+//!   a unit root against tau = 1) can change side during the swaps, which the final check
+//!   reports as `ReorderCheckFailed`; classify such roots with
+//!   [`GeneralizedSchur::classify`] before reordering.
 
 pub mod balance;
 pub mod error;
@@ -260,8 +270,7 @@ impl GeneralizedSchur {
             q.as_mut_slice(),
             z.as_mut_slice(),
             n,
-            ilo,
-            ihi,
+            ilo..=ihi,
             params,
         )?;
         balance::scale_by_power_of_two(s.as_mut_slice(), ea);
@@ -354,8 +363,17 @@ impl GeneralizedSchur {
 
     /// The backward error of the factors against a pencil: the larger of
     /// `||Q S Z^H - A||_F / ||A||_F` and `||Q T Z^H - B||_F / ||B||_F` (a zero matrix counts
-    /// its residual absolutely).
-    pub fn backward_error(&self, a: &DMatrix<C64>, b: &DMatrix<C64>) -> f64 {
+    /// its residual absolutely). Returns `DimensionMismatch` if A or B is not n x n.
+    pub fn backward_error(&self, a: &DMatrix<C64>, b: &DMatrix<C64>) -> Result<f64, QzError> {
+        let n = self.dim();
+        if a.shape() != (n, n) || b.shape() != (n, n) {
+            return Err(QzError::DimensionMismatch {
+                a_rows: a.nrows(),
+                a_cols: a.ncols(),
+                b_rows: b.nrows(),
+                b_cols: b.ncols(),
+            });
+        }
         let rel = |m: &DMatrix<C64>, f: &DMatrix<C64>| {
             let r = iteration::frobenius((&self.q * f * self.z.adjoint() - m).as_slice());
             let nm = iteration::frobenius(m.as_slice());
@@ -365,7 +383,7 @@ impl GeneralizedSchur {
                 r
             }
         };
-        rel(a, &self.s).max(rel(b, &self.t))
+        Ok(rel(a, &self.s).max(rel(b, &self.t)))
     }
 
     /// Left unitary factor Q.

@@ -114,7 +114,14 @@ impl Entry for C64 {
     }
     #[inline(always)]
     fn modulus(self) -> f64 {
-        self.re.hypot(self.im)
+        // sqrt(re^2 + im^2) is correctly rounded to within an ulp when the sum of squares is
+        // far from overflow and underflow; only outside that range pay for hypot.
+        let m = self.re.abs().max(self.im.abs());
+        if m > MODULUS_FAST_MIN && m < MODULUS_FAST_MAX {
+            (self.re * self.re + self.im * self.im).sqrt()
+        } else {
+            self.re.hypot(self.im)
+        }
     }
     #[inline(always)]
     fn modulus_sqr(self) -> f64 {
@@ -254,6 +261,12 @@ mod simd {
     }
 }
 
+/// Below this magnitude (2^-500) squares of components could lose accuracy to underflow, so the
+/// complex modulus falls back to `hypot`.
+const MODULUS_FAST_MIN: f64 = 3.054936363499605e-151;
+/// Above this magnitude (2^500) squares could overflow; `hypot` is used instead.
+const MODULUS_FAST_MAX: f64 = 3.273390607896142e150;
+
 /// `|re| + |im|`, the cheap modulus LAPACK-style codes use in deflation tests (within a factor
 /// sqrt(2) of |x|).
 #[inline(always)]
@@ -315,7 +328,13 @@ impl<E: Entry> Rotation<E> {
             );
         }
         let af = f.modulus();
-        let norm = af.hypot(ag);
+        let big = af.max(ag);
+        let norm =
+            if big > MODULUS_FAST_MIN && big < MODULUS_FAST_MAX && af.min(ag) > MODULUS_FAST_MIN {
+                (af * af + ag * ag).sqrt()
+            } else {
+                af.hypot(ag)
+            };
         let phase = f.unscale(af);
         let c = af / norm;
         let s = phase * g.conj().unscale(norm);
