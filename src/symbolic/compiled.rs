@@ -46,6 +46,9 @@ pub struct CompiledModel {
     pub steady_blocks: Option<Vec<SteadyBlock>>,
 }
 
+/// A block's Jacobian entries while they are gathered: positions and derivative nodes.
+type BlockEntries = (Vec<(usize, usize)>, Vec<NodeId>);
+
 /// One diagonal block of the static system R(x) = 0 (see [`super::blocks`]).
 #[derive(Debug, Clone)]
 pub struct SteadyBlock {
@@ -133,8 +136,7 @@ impl CompiledModel {
                         col_of[v] = c;
                     }
                 }
-                let mut per_block: Vec<(Vec<(usize, usize)>, Vec<NodeId>)> =
-                    vec![(Vec::new(), Vec::new()); blocks.len()];
+                let mut per_block: Vec<BlockEntries> = vec![(Vec::new(), Vec::new()); blocks.len()];
                 for (k, &(i, j)) in jacobian_pattern.iter().enumerate() {
                     let b = block_of[i];
                     if blocks[b].variables.binary_search(&j).is_ok() {
