@@ -264,3 +264,18 @@ fn static_and_shockless_models_solve() {
     assert_eq!(s.status, Status::Determinate);
     assert_eq!(s.solution.unwrap().q.ncols(), 0);
 }
+
+#[test]
+fn rank_failure_is_reported_separately() {
+    // An explosive state nothing can offset, next to a stable forward variable: the counts match
+    // (one stable root, one predetermined variable) but the stable direction does not involve the
+    // state (Blanchard and Kahn 1980 rank condition; common practice example).
+    let m = model(
+        "endogenous\n k, x\nexogenous\n e\nequations\n k = 2 * k[t-1] + e\n x[t+1] = 0.5 * x\n",
+    );
+    let s = solve(&m, &SolveOptions::default()).unwrap();
+    assert_eq!(s.status, Status::RankFailure);
+    assert_eq!(s.counts.unstable, s.counts.forward_looking);
+    assert!(s.solution.is_none());
+    assert!(s.diagnosis.unwrap().contains("Rank condition fails"));
+}
