@@ -264,3 +264,34 @@ fn a_missing_file_is_a_command_line_error() {
     assert_eq!(out.status.code(), Some(2));
     assert!(String::from_utf8_lossy(&out.stderr).contains("cannot read"));
 }
+
+#[test]
+fn a_closed_stdout_pipe_ends_quietly() {
+    // `saddle check ... | head -1`: output larger than a pipe buffer into a pipe whose reader
+    // has gone must not panic.
+    let dir = tempfile::tempdir().unwrap();
+    let path = dir.path().join("big.saddle");
+    let mut src = String::from("endogenous\n");
+    for i in 0..3000 {
+        src.push_str(&format!(
+            "  x{i} \"a variable with a long label to make the output large\"\n"
+        ));
+    }
+    src.push_str("equations\n");
+    for i in 0..3000 {
+        src.push_str(&format!("  x{i} = 0.5 * x{i}[t-1]\n"));
+    }
+    std::fs::write(&path, src).unwrap();
+    let mut child = Command::new(env!("CARGO_BIN_EXE_saddle"))
+        .arg("check")
+        .arg(&path)
+        .stdout(std::process::Stdio::piped())
+        .stderr(std::process::Stdio::piped())
+        .spawn()
+        .unwrap();
+    drop(child.stdout.take());
+    let out = child.wait_with_output().unwrap();
+    let err = String::from_utf8_lossy(&out.stderr);
+    assert!(!err.contains("panicked"), "{err}");
+    assert_eq!(out.status.code(), Some(0), "{err}");
+}

@@ -7,7 +7,7 @@
 //! subdiagonal from the bottom up; each such row rotation puts one entry below T's diagonal,
 //! which a column rotation on the same two columns removes at once.
 //!
-//! Generic over the scalar ([`Entry`]): real input is reduced in real arithmetic (about a
+//! Generic over the scalar (`Entry`: f64 or C64): real input is reduced in real arithmetic (about a
 //! quarter of the complex work) and converted to complex afterwards.
 
 use super::rotation::{rotate_columns, rotate_rows, Entry, Rotation};
@@ -15,21 +15,84 @@ use super::rotation::{rotate_columns, rotate_rows, Entry, Rotation};
 /// Overwrites the n x n column-major `a`, `b` with `H = Q^H A Z` (upper Hessenberg) and
 /// `T = Q^H B Z` (upper triangular, entries below the diagonal set to exact zero), and
 /// overwrites `q`, `z` (which must hold the identity or any unitary matrices on entry) with
-/// `q Q`, `z Z`.
-pub(crate) fn reduce<E: Entry>(a: &mut [E], b: &mut [E], q: &mut [E], z: &mut [E], n: usize) {
-    householder_triangularize(a, b, q, n);
-    givens_hessenberg(a, b, q, z, n);
+/// `q Q`, `z Z`. Only the active block `ilo..=ihi` is reduced: on entry the rows and columns
+/// outside it must already be in triangular form (as left by [`super::balance::permute`]:
+/// `a`, `b` zero below the diagonal in columns `< ilo` and in rows `> ihi`); the rotations are
+/// applied to whole rows and columns so that the equivalence holds for the full matrices.
+pub(crate) fn reduce<E: Entry>(
+    a: &mut [E],
+    b: &mut [E],
+    q: &mut [E],
+    z: &mut [E],
+    n: usize,
+    ilo: usize,
+    ihi: usize,
+) {
+    #[cfg(target_arch = "x86_64")]
+    {
+        if std::arch::is_x86_feature_detected!("avx2") && std::arch::is_x86_feature_detected!("fma")
+        {
+            // SAFETY: the CPU supports the features the clone is compiled for.
+            unsafe { reduce_avx2(a, b, q, z, n, ilo, ihi) };
+            return;
+        }
+    }
+    reduce_portable(a, b, q, z, n, ilo, ihi);
 }
 
-/// Householder QR of `b`: overwrites `b <- H_{n-1}...H_1 b` (upper triangular, exact zeros below
-/// the diagonal), `a <- H_{n-1}...H_1 a` and `q <- q H_1...H_{n-1}`. Each reflector is the
+/// [`reduce`] compiled for AVX2/FMA: the portable loops (inlined) are auto-vectorised with
+/// 256-bit registers, which matters for the real (`f64`) kernels that have no hand-written
+/// SIMD version.
+///
+/// # Safety
+/// The CPU must support AVX2 and FMA.
+#[cfg(target_arch = "x86_64")]
+#[target_feature(enable = "avx2,fma")]
+unsafe fn reduce_avx2<E: Entry>(
+    a: &mut [E],
+    b: &mut [E],
+    q: &mut [E],
+    z: &mut [E],
+    n: usize,
+    ilo: usize,
+    ihi: usize,
+) {
+    householder_triangularize(a, b, q, n, ilo, ihi);
+    givens_hessenberg(a, b, q, z, n, ilo, ihi);
+}
+
+fn reduce_portable<E: Entry>(
+    a: &mut [E],
+    b: &mut [E],
+    q: &mut [E],
+    z: &mut [E],
+    n: usize,
+    ilo: usize,
+    ihi: usize,
+) {
+    householder_triangularize(a, b, q, n, ilo, ihi);
+    givens_hessenberg(a, b, q, z, n, ilo, ihi);
+}
+
+/// Householder QR of the active block of `b`: overwrites `b <- H_{m}...H_1 b` (upper triangular
+/// on `ilo..=ihi`, exact zeros below the diagonal), `a <- H_{m}...H_1 a` and
+/// `q <- q H_1...H_{m}`. Each reflector is the
 /// Hermitian `H = I - tau v v^H` with real `tau = 1 / (v^H x)` mapping the column `x` to
 /// `-(x_0/|x_0|) ||x|| e_1`.
-fn householder_triangularize<E: Entry>(a: &mut [E], b: &mut [E], q: &mut [E], n: usize) {
+#[inline(always)]
+fn householder_triangularize<E: Entry>(
+    a: &mut [E],
+    b: &mut [E],
+    q: &mut [E],
+    n: usize,
+    ilo: usize,
+    ihi: usize,
+) {
     let mut v: Vec<E> = vec![E::zero(); n];
     let mut w: Vec<E> = vec![E::zero(); n];
-    for k in 0..n.saturating_sub(1) {
-        let col = &b[k * n + k..(k + 1) * n];
+    let end = ihi + 1;
+    for k in ilo..ihi {
+        let col = &b[k * n + k..k * n + end];
         let tail: f64 = col[1..].iter().map(|x| x.modulus_sqr()).sum();
         if tail == 0.0 {
             continue;
@@ -43,7 +106,7 @@ fn householder_triangularize<E: Entry>(a: &mut [E], b: &mut [E], q: &mut [E], n:
             alpha.unscale(aalpha)
         };
         let beta = -phase.scale(xnorm);
-        let m = n - k;
+        let m = end - k;
         let v = &mut v[..m];
         v.copy_from_slice(col);
         v[0] = alpha - beta;
@@ -52,7 +115,7 @@ fn householder_triangularize<E: Entry>(a: &mut [E], b: &mut [E], q: &mut [E], n:
         // Columns k+1.. of b, all columns of a: x <- x - tau v (v^H x).
         let reflect = |m_: &mut [E], cols: std::ops::Range<usize>| {
             for j in cols {
-                let c = &mut m_[j * n + k..(j + 1) * n];
+                let c = &mut m_[j * n + k..j * n + end];
                 let mut dot = E::zero();
                 for (vi, ci) in v.iter().zip(c.iter()) {
                     dot = dot + vi.conj() * *ci;
@@ -64,9 +127,10 @@ fn householder_triangularize<E: Entry>(a: &mut [E], b: &mut [E], q: &mut [E], n:
             }
         };
         reflect(b, k + 1..n);
-        reflect(a, 0..n);
+        // Columns of `a` left of ilo are zero in the active rows.
+        reflect(a, ilo..n);
         b[k * n + k] = beta;
-        for x in &mut b[k * n + k + 1..(k + 1) * n] {
+        for x in &mut b[k * n + k + 1..k * n + end] {
             *x = E::zero();
         }
         // q <- q - tau (q v) v^H on columns k..n.
@@ -91,12 +155,21 @@ fn householder_triangularize<E: Entry>(a: &mut [E], b: &mut [E], q: &mut [E], n:
 /// Givens stage on an upper-triangular `b`: overwrites `a` with upper Hessenberg form (exact
 /// zeros below the subdiagonal), keeps `b` upper triangular (exact zeros below the diagonal),
 /// and accumulates the row rotations into `q` and the column rotations into `z`.
-fn givens_hessenberg<E: Entry>(a: &mut [E], b: &mut [E], q: &mut [E], z: &mut [E], n: usize) {
-    if n < 3 {
+#[inline(always)]
+fn givens_hessenberg<E: Entry>(
+    a: &mut [E],
+    b: &mut [E],
+    q: &mut [E],
+    z: &mut [E],
+    n: usize,
+    ilo: usize,
+    ihi: usize,
+) {
+    if ihi < ilo + 2 {
         return;
     }
-    for jcol in 0..n - 2 {
-        for jrow in (jcol + 2..n).rev() {
+    for jcol in ilo..ihi - 1 {
+        for jrow in (jcol + 2..=ihi).rev() {
             // Row rotation on (jrow-1, jrow) kills a[jrow, jcol].
             let (g, r) = Rotation::zeroing(a[jcol * n + jrow - 1], a[jcol * n + jrow]);
             a[jcol * n + jrow - 1] = r;
@@ -108,7 +181,8 @@ fn givens_hessenberg<E: Entry>(a: &mut [E], b: &mut [E], q: &mut [E], z: &mut [E
             let (g, r) = Rotation::zeroing(b[jrow * n + jrow], b[(jrow - 1) * n + jrow]);
             b[jrow * n + jrow] = r;
             b[(jrow - 1) * n + jrow] = E::zero();
-            rotate_columns(a, n, jrow, jrow - 1, 0..n, g);
+            // Rows below ihi are zero in the active columns.
+            rotate_columns(a, n, jrow, jrow - 1, 0..ihi + 1, g);
             rotate_columns(b, n, jrow, jrow - 1, 0..jrow, g);
             rotate_columns(z, n, jrow, jrow - 1, 0..n, g);
         }
@@ -150,7 +224,9 @@ mod tests {
             q[i * n + i] = E::from_real(1.0);
             z[i * n + i] = E::from_real(1.0);
         }
-        reduce(&mut a, &mut b, &mut q, &mut z, n);
+        if n > 0 {
+            reduce(&mut a, &mut b, &mut q, &mut z, n, 0, n - 1);
+        }
         let m = |v: &[E]| DMatrix::from_iterator(n, n, v.iter().map(|x| to_c(*x)));
         let (ac, bc, hc, tc, qc, zc) = (m(&a0), m(&b0), m(&a), m(&b), m(&q), m(&z));
         for j in 0..n {

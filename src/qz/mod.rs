@@ -13,7 +13,8 @@
 //!
 //! Pipeline (Moler and Stewart 1973; Golub and Van Loan, Matrix Computations, 4th ed., §7.7):
 //! 1. [`balance`]: a global power-of-two scaling of A and of B when their entries are extreme
-//!    (exact, undone at the end);
+//!    (exact, undone at the end), and permutations isolating eigenvalues exposed by exact zeros
+//!    (folded into Q and Z);
 //! 2. [`hessenberg`]: Householder QR of B, then Givens rotations bring A to upper Hessenberg form
 //!    keeping B triangular (in real arithmetic for real input);
 //! 3. [`iteration`]: complex single-shift implicit QZ sweeps with element-wise deflation, exact
@@ -28,6 +29,16 @@
 //!
 //! Selection for reordering never forms `alpha / beta`: the solver's test
 //! `|alpha| < tau |beta|` is false for every infinite eigenvalue (`beta = 0`).
+//!
+//! Two consequences of working with norm-wise tolerances, which callers should know:
+//! * a pencil whose equations (rows) differ in scale by a factor near 1/EPS is singular to
+//!   working precision relative to its norm, and its small rows' eigenvalues are not determined
+//!   by a norm-wise backward-stable method; scale the equations first (the power-of-two
+//!   [`balance::row_equilibration_exponents`] does it, and the caller owns the mapping back);
+//! * a root within rounding of the selection boundary (|alpha| = tau |beta| to about EPS, e.g.
+//!   a unit root against tau = 1) can change side during the swaps, which the final check
+//!   reports as `ReorderCheckFailed`; classify such roots with
+//!   [`GeneralizedSchur::classify`] before reordering.
 
 pub mod balance;
 pub mod error;
@@ -66,6 +77,10 @@ pub struct QzParams {
     /// Scale A and B by powers of two when their largest entries are outside [2^-200, 2^200]
     /// (exact; undone afterwards). Default true.
     pub scale_extremes: bool,
+    /// Permute rows and columns first to isolate eigenvalues exposed by exact zeros (rows or
+    /// columns with a single nonzero in both matrices), which are then exact and skip the
+    /// iteration. The permutations are folded into Q and Z. Default true.
+    pub permute: bool,
 }
 
 impl Default for QzParams {
@@ -75,6 +90,7 @@ impl Default for QzParams {
             exceptional_shift_period: 10,
             swap_test_factor: 20.0,
             scale_extremes: true,
+            permute: true,
         }
     }
 }
@@ -219,13 +235,30 @@ impl GeneralizedSchur {
         let mut qr =
             DMatrix::<E>::from_fn(n, n, |i, j| E::from_real(if i == j { 1.0 } else { 0.0 }));
         let mut zr = qr.clone();
-        hessenberg::reduce(
-            a.as_mut_slice(),
-            b.as_mut_slice(),
-            qr.as_mut_slice(),
-            zr.as_mut_slice(),
-            n,
-        );
+        let (ilo, ihi) = if n == 0 {
+            (0, 0)
+        } else if params.permute {
+            balance::permute(
+                a.as_mut_slice(),
+                b.as_mut_slice(),
+                qr.as_mut_slice(),
+                zr.as_mut_slice(),
+                n,
+            )
+        } else {
+            (0, n - 1)
+        };
+        if n > 0 {
+            hessenberg::reduce(
+                a.as_mut_slice(),
+                b.as_mut_slice(),
+                qr.as_mut_slice(),
+                zr.as_mut_slice(),
+                n,
+                ilo,
+                ihi,
+            );
+        }
         let mut s = to_complex(&a);
         let mut t = to_complex(&b);
         let mut q = to_complex(&qr);
@@ -237,6 +270,7 @@ impl GeneralizedSchur {
             q.as_mut_slice(),
             z.as_mut_slice(),
             n,
+            ilo..=ihi,
             params,
         )?;
         balance::scale_by_power_of_two(s.as_mut_slice(), ea);
@@ -329,8 +363,17 @@ impl GeneralizedSchur {
 
     /// The backward error of the factors against a pencil: the larger of
     /// `||Q S Z^H - A||_F / ||A||_F` and `||Q T Z^H - B||_F / ||B||_F` (a zero matrix counts
-    /// its residual absolutely).
-    pub fn backward_error(&self, a: &DMatrix<C64>, b: &DMatrix<C64>) -> f64 {
+    /// its residual absolutely). Returns `DimensionMismatch` if A or B is not n x n.
+    pub fn backward_error(&self, a: &DMatrix<C64>, b: &DMatrix<C64>) -> Result<f64, QzError> {
+        let n = self.dim();
+        if a.shape() != (n, n) || b.shape() != (n, n) {
+            return Err(QzError::DimensionMismatch {
+                a_rows: a.nrows(),
+                a_cols: a.ncols(),
+                b_rows: b.nrows(),
+                b_cols: b.ncols(),
+            });
+        }
         let rel = |m: &DMatrix<C64>, f: &DMatrix<C64>| {
             let r = iteration::frobenius((&self.q * f * self.z.adjoint() - m).as_slice());
             let nm = iteration::frobenius(m.as_slice());
@@ -340,7 +383,7 @@ impl GeneralizedSchur {
                 r
             }
         };
-        rel(a, &self.s).max(rel(b, &self.t))
+        Ok(rel(a, &self.s).max(rel(b, &self.t)))
     }
 
     /// Left unitary factor Q.
