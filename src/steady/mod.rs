@@ -277,10 +277,7 @@ pub fn solve_steady(
                     model, &unknown, &jac, &x,
                 )));
             }
-            return Err(SteadyError::NotFound {
-                iterations: iter,
-                report: residual_report(model, compiled, &r),
-            });
+            return Err(not_found(model, compiled, &r, iter, m));
         }
         x.clone_from(&xt);
         r.clone_from(&trial);
@@ -302,10 +299,26 @@ pub fn solve_steady(
             return finish(model, compiled, x, r, iter, m);
         }
     }
-    Err(SteadyError::NotFound {
-        iterations: MAX_NEWTON_ITERATIONS,
-        report: residual_report(model, compiled, &r),
-    })
+    Err(not_found(model, compiled, &r, MAX_NEWTON_ITERATIONS, m))
+}
+
+/// The failure after Newton stopped: with some values fixed by `steady` items the likely culprit
+/// is those values (the rest were fitted by least squares), otherwise the search itself.
+fn not_found(
+    model: &Model,
+    compiled: &CompiledModel,
+    r: &[f64],
+    iterations: usize,
+    n_unknown: usize,
+) -> SteadyError {
+    let report = residual_report(model, compiled, r);
+    if n_unknown < compiled.n_equations {
+        SteadyError::KnownValuesInconsistent(format!(
+            "{report} (the other variables were fitted by least squares over {iterations} iterations)"
+        ))
+    } else {
+        SteadyError::NotFound { iterations, report }
+    }
 }
 
 /// Damped Newton on each diagonal block in turn (earlier blocks' values fixed), overwriting the
@@ -432,10 +445,7 @@ fn finish(
                 model, compiled, &r,
             )));
         }
-        return Err(SteadyError::NotFound {
-            iterations,
-            report: residual_report(model, compiled, &r),
-        });
+        return Err(not_found(model, compiled, &r, iterations, n_unknown));
     }
     Ok(SteadyState {
         values,

@@ -275,3 +275,30 @@ fn compiled_jacobians_match_central_differences_on_a_whole_model() {
         );
     }
 }
+
+#[test]
+fn inconsistent_partial_values_are_blamed_on_the_values() {
+    // x = 2 and y = 3 x with the value y = 5 given: no x satisfies both equations.
+    let mut m = model(
+        &[("x", false), ("y", false)],
+        &[],
+        &[],
+        vec![(v(0, 0), n(2.0)), (v(1, 0), mul(n(3.0), v(0, 0)))],
+        vec![],
+    );
+    m.steady = vec![SteadyItem {
+        kind: SteadyKind::Known,
+        variable: 1,
+        expr: n(5.0),
+    }];
+    let c = CompiledModel::new(&m);
+    let err = solve_steady(&m, &c, &[]).unwrap_err();
+    assert!(
+        matches!(err, SteadyError::KnownValuesInconsistent(_)),
+        "{err}"
+    );
+    // Consistent partial values: the rest is solved.
+    m.steady[0].expr = n(6.0);
+    let ss = solve_steady(&m, &c, &[]).unwrap();
+    assert!((ss.values[0] - 2.0).abs() < 1e-12);
+}
