@@ -306,3 +306,43 @@ fn file_options_set_the_threshold_and_command_line_overrides_them() {
     let err = solve(&bad, &SolveOptions::default()).unwrap_err();
     assert!(err.to_string().contains("threshold"), "{err}");
 }
+
+/// `n` copies of a state k_i and a forward variable x_i, written as model text.
+fn many_pairs(n: usize, k_root: f64) -> Model {
+    let mut s = String::from("endogenous\n");
+    for i in 0..n {
+        s.push_str(&format!(" k{i}, x{i}\n"));
+    }
+    s.push_str("exogenous\n e\nequations\n");
+    for i in 0..n {
+        let j = (i + 1) % n;
+        if k_root < 1.0 {
+            // Determinate: stable states, forward variables with root 1/0.5 = 2.
+            s.push_str(&format!(
+                " k{i} = {k_root} * k{i}[t-1] + 0.05 * k{j}[t-1] + e\n"
+            ));
+            s.push_str(&format!(" x{i} = 0.5 * x{i}[t+1] + k{i}\n"));
+        } else {
+            // Explosive states nothing offsets, stable forward dynamics: counts match, rank fails.
+            s.push_str(&format!(" k{i} = {k_root} * k{i}[t-1] + e\n"));
+            s.push_str(&format!(" x{i}[t+1] = 0.5 * x{i} + 0.01 * x{j}\n"));
+        }
+    }
+    model(&s)
+}
+
+#[test]
+fn large_models_use_the_estimated_rank_condition_correctly() {
+    // 70 states: above the exact-SVD limit of 60.
+    let d = {
+        let m = many_pairs(70, 0.6);
+        PreparedModel::new(&m)
+            .unwrap()
+            .solve_detailed(&m, &SolveOptions::default())
+            .unwrap()
+    };
+    assert_eq!(d.solved.status, Status::Determinate);
+    assert!(d.max_residual.unwrap() < 1e-10);
+    let s = solve(&many_pairs(70, 2.0), &SolveOptions::default()).unwrap();
+    assert_eq!(s.status, Status::RankFailure, "{:?}", s.diagnosis);
+}
