@@ -89,7 +89,7 @@ pub fn run(args: IrfArgs) -> Result<Outcome, Failure> {
         .map_err(|e| Failure::usage(e.to_string()))?;
     let text = match args.format {
         Format::Text => render::text(&r, s.solved.title.as_deref(), &s.solved.log),
-        Format::Json => render::json(&r),
+        Format::Json => render::json_with_warnings(&r, &s.solved.warnings),
         Format::Csv => render::csv(&r),
     };
     emit(args.out.output.as_deref(), text.as_bytes())?;

@@ -3,7 +3,7 @@
 //! Contract: the tree mirrors the file statement by statement. Names are still text; resolving
 //! them (and every check of spec §5) is the job of `model::check`. Every expression node records
 //! its nesting depth, and the parser never builds one deeper than
-//! [`crate::model::MAX_EXPR_DEPTH`] (it puts [`ExprKind::TooDeep`] there instead), so every
+//! [`super::parser::MAX_EXPR_DEPTH`] (it puts [`ExprKind::TooDeep`] there instead), so every
 //! recursive pass over the tree, dropping included, runs in bounded stack.
 //!
 //! Statements and expressions are boxed where the parser moves them: the LR parser's stack holds

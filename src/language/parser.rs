@@ -13,7 +13,6 @@ use super::ast::{BinOp, Expr, ExprKind, File, Func, Name};
 use super::diagnostics::Diagnostic;
 use super::lexer::{LexError, Lexer, Section, Tok};
 use super::span::Span;
-use crate::model::MAX_EXPR_DEPTH;
 
 lalrpop_mod!(
     #[allow(
@@ -26,6 +25,12 @@ lalrpop_mod!(
     grammar,
     "/saddle.rs"
 );
+
+/// Deepest expression the parser builds. It equals the checked model's limit
+/// (`model::MAX_EXPR_DEPTH`, asserted at compile time in `model::check`; the language module
+/// does not import from the model, which comes after it on the data's path), and checking never
+/// makes an expression deeper.
+pub const MAX_EXPR_DEPTH: usize = 512;
 
 /// Largest model file accepted, in bytes. A generated model of 100,000 equations is about 10 MB;
 /// the limit keeps memory and time bounded for anything larger (which is not a model a person or

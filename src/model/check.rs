@@ -22,6 +22,9 @@ use super::{
 use crate::language::ast::{self, ExprKind, Func};
 use crate::language::{self, Diagnostic, Span};
 
+// The parser refuses trees deeper than the model's limit, and lowering never adds depth.
+const _: () = assert!(language::parser::MAX_EXPR_DEPTH <= super::MAX_EXPR_DEPTH);
+
 /// Largest lead or lag accepted in a time index. Each period of lead or lag adds an auxiliary
 /// variable per variable to the solved system; a model needs a handful, and a hundred keeps a
 /// mistyped `x[t+100000]` from building a system of millions of equations.

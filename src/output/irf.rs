@@ -12,10 +12,16 @@ struct JsonIrf<'a> {
     size: &'static str,
     responses: Ordered<'a, Ordered<'a, Vec<f64>>>,
     impulse: Ordered<'a, f64>,
+    warnings: &'a [String],
 }
 
-/// The JSON document of cli.md (pretty-printed, ending in a newline).
+/// The JSON document of cli.md (pretty-printed, ending in a newline), without warnings.
 pub fn json(r: &ImpulseResponses) -> String {
+    json_with_warnings(r, &[])
+}
+
+/// The JSON document of cli.md plus the solve's `warnings` (pretty-printed, ending in a newline).
+pub fn json_with_warnings(r: &ImpulseResponses, warnings: &[String]) -> String {
     let responses = Ordered(
         r.shocks
             .iter()
@@ -43,6 +49,7 @@ pub fn json(r: &ImpulseResponses) -> String {
                 .zip(r.impulse.iter().copied())
                 .collect(),
         ),
+        warnings,
     };
     let mut out = serde_json::to_string_pretty(&doc)
         .unwrap_or_else(|e| format!("{{\"error\": \"could not serialize: {e}\"}}"));

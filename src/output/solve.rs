@@ -6,7 +6,7 @@ use serde::{Serialize, Serializer};
 
 use super::csv;
 use super::table::{number, Align, Table};
-use crate::solution::{describe_root, Root, SolvedModel, Status};
+use crate::solution::{Root, SolvedModel, Status};
 
 /// Coefficients smaller than this (absolute) are left out of the printed equations; the JSON
 /// keeps every digit. Decision-rule coefficients of models in percent units are O(1e-3..1e2), so
@@ -369,15 +369,6 @@ fn shift(state: &str) -> String {
 
 fn indent(s: &str) -> String {
     s.lines().map(|l| format!("  {l}\n")).collect()
-}
-
-/// A short description of the roots nearest the threshold, for messages.
-pub fn root_list(roots: &[Root]) -> String {
-    roots
-        .iter()
-        .map(describe_root)
-        .collect::<Vec<_>>()
-        .join(", ")
 }
 
 #[cfg(test)]

@@ -302,9 +302,22 @@ fn random_models_with_planted_roots() {
             (if i == j { 1.0 } else { 0.0 }) + 0.4 * (2.0 * unif() - 1.0)
         });
         let vinv = vm.clone().try_inverse().unwrap();
-        let mm = &vm
-            * nalgebra::DMatrix::from_diagonal(&nalgebra::DVector::from_vec(lambda.clone()))
-            * &vinv;
+        // Every other trial with two or more forward variables plants a complex pair
+        // r e^{+-i theta} among the unstable roots (a rotation-scaling block of D).
+        let mut d = nalgebra::DMatrix::from_diagonal(&nalgebra::DVector::from_vec(lambda.clone()));
+        let mut planted: Vec<(f64, f64)> = lambda.iter().map(|&l| (l, 0.0)).collect();
+        if nf >= 2 && trial % 2 == 0 {
+            let r = 1.3 + unif();
+            let theta = 0.3 + 2.0 * unif();
+            let (a, b) = (r * theta.cos(), r * theta.sin());
+            d[(nb, nb)] = a;
+            d[(nb + 1, nb + 1)] = a;
+            d[(nb, nb + 1)] = -b;
+            d[(nb + 1, nb)] = b;
+            planted[nb] = (a, b);
+            planted[nb + 1] = (a, -b);
+        }
+        let mm = &vm * &d * &vinv;
         // k_i = sum_j M_ij w_j[t-1] + e_i;  x_i[t+1] = sum_j M_(nb+i),j w_j
         let mut eqs = Vec::new();
         let mut params = Vec::new();
@@ -350,27 +363,31 @@ fn random_models_with_planted_roots() {
         );
         // The planted roots are among the pencil's roots (the rest are zeros from the lags of
         // the forward variables).
-        let mut found: Vec<f64> = d
+        let mut found: Vec<(f64, f64)> = d
             .solved
             .roots
             .iter()
             .filter(|r| r.modulus.unwrap_or(f64::INFINITY) > 1e-8)
-            .map(|r| r.re)
+            .map(|r| (r.re, r.im))
             .collect();
-        found.sort_by(|a, b| a.partial_cmp(b).unwrap());
-        let mut planted = lambda.clone();
-        planted.sort_by(|a, b| a.partial_cmp(b).unwrap());
         assert_eq!(
             found.len(),
             planted.len(),
             "trial {trial}: {:?}",
             d.solved.roots
         );
-        for (a, b) in found.iter().zip(&planted) {
-            assert!(
-                (a - b).abs() < 1e-8 * b.abs().max(1.0),
-                "trial {trial}: {a} vs {b}"
-            );
+        // Match each planted root to a distinct computed one.
+        for b in &planted {
+            let scale = b.0.hypot(b.1).max(1.0);
+            let hit = found
+                .iter()
+                .position(|a| (a.0 - b.0).abs() < 1e-8 * scale && (a.1 - b.1).abs() < 1e-8 * scale);
+            match hit {
+                Some(i) => {
+                    found.remove(i);
+                }
+                None => panic!("trial {trial}: planted root {b:?} not found in {found:?}"),
+            }
         }
         // The policy of the forward block is x_t = F k_t with F = V_xs V_ks^{-1} (stable
         // eigenvectors), k_t = M_k. w_{t-1} + e_t.

@@ -201,6 +201,20 @@ pub fn solve_steady(
     if m == 0 || max_abs(&r) <= NEWTON_TOL {
         return finish(model, compiled, x, r, 0, m);
     }
+    // Block by block when nothing is fixed and the system decomposes; any trouble in a block
+    // falls back to the full Newton solve from the same start (whose messages say what failed).
+    if m == n {
+        if let Some(blocks) = &compiled.steady_blocks {
+            let mut xb = x.clone();
+            if let Some(iterations) = solve_by_blocks(blocks, params, &mut xb, &log) {
+                let mut rb = vec![0.0; compiled.n_equations];
+                compiled.residuals.eval(params, &xb, &mut work, &mut rb);
+                if rb.iter().all(|v| v.is_finite()) && max_abs(&rb) <= NEWTON_TOL {
+                    return finish(model, compiled, xb, rb, iterations, m);
+                }
+            }
+        }
+    }
 
     let mut jv = vec![0.0; compiled.jacobian_pattern.len()];
     let mut col_of = vec![usize::MAX; n];
@@ -263,10 +277,7 @@ pub fn solve_steady(
                     model, &unknown, &jac, &x,
                 )));
             }
-            return Err(SteadyError::NotFound {
-                iterations: iter,
-                report: residual_report(model, compiled, &r),
-            });
+            return Err(not_found(model, compiled, &r, iter, m));
         }
         x.clone_from(&xt);
         r.clone_from(&trial);
@@ -288,10 +299,134 @@ pub fn solve_steady(
             return finish(model, compiled, x, r, iter, m);
         }
     }
-    Err(SteadyError::NotFound {
-        iterations: MAX_NEWTON_ITERATIONS,
-        report: residual_report(model, compiled, &r),
-    })
+    Err(not_found(model, compiled, &r, MAX_NEWTON_ITERATIONS, m))
+}
+
+/// The failure after Newton stopped: with some values fixed by `steady` items the likely culprit
+/// is those values (the rest were fitted by least squares), otherwise the search itself.
+fn not_found(
+    model: &Model,
+    compiled: &CompiledModel,
+    r: &[f64],
+    iterations: usize,
+    n_unknown: usize,
+) -> SteadyError {
+    let report = residual_report(model, compiled, r);
+    if n_unknown < compiled.n_equations {
+        SteadyError::KnownValuesInconsistent(format!(
+            "{report} (the other variables were fitted by least squares over {iterations} iterations)"
+        ))
+    } else {
+        SteadyError::NotFound { iterations, report }
+    }
+}
+
+/// Damped Newton on each diagonal block in turn (earlier blocks' values fixed), overwriting the
+/// block's entries of `x`. Returns the largest number of iterations a block took, or `None` if a
+/// block hits a singular Jacobian, a non-finite value, a failed line search or the iteration
+/// limit. The block Jacobians being nonsingular at the end makes the whole Jacobian nonsingular
+/// (it is block triangular), so the steady state found is locally unique.
+fn solve_by_blocks(
+    blocks: &[crate::symbolic::SteadyBlock],
+    params: &[f64],
+    x: &mut [f64],
+    log: &[bool],
+) -> Option<usize> {
+    let mut work = Vec::new();
+    let mut most = 0;
+    for blk in blocks {
+        let nb = blk.variables.len();
+        let mut r = vec![0.0; nb];
+        let mut trial = vec![0.0; nb];
+        let mut jv = vec![0.0; blk.jacobian_pattern.len()];
+        blk.residuals.eval(params, x, &mut work, &mut r);
+        if r.iter().any(|v| !v.is_finite()) {
+            return None;
+        }
+        let mut iters = 0;
+        let mut converged_at: Option<usize> = if max_abs(&r) <= NEWTON_TOL {
+            Some(0)
+        } else {
+            None
+        };
+        // Iterate to convergence, then one polishing step (kept only if not worse).
+        while converged_at.is_none_or(|c| c == iters && iters > 0) {
+            if iters >= MAX_NEWTON_ITERATIONS {
+                return None;
+            }
+            blk.jacobian.eval(params, x, &mut work, &mut jv);
+            let mut jac = DMatrix::<f64>::zeros(nb, nb);
+            for (k, &(i, c)) in blk.jacobian_pattern.iter().enumerate() {
+                let j = blk.variables[c];
+                jac[(i, c)] += if log[j] { jv[k] * x[j] } else { jv[k] };
+            }
+            let d = newton_step(&jac, &DVector::from_column_slice(&r))?;
+            let old: Vec<f64> = blk.variables.iter().map(|&j| x[j]).collect();
+            let f = 0.5 * norm2(&r);
+            let polishing = converged_at.is_some();
+            let mut t = 1.0;
+            let mut accepted = false;
+            for _ in 0..=MAX_HALVINGS {
+                for (c, &j) in blk.variables.iter().enumerate() {
+                    x[j] = if log[j] {
+                        (old[c].ln() + t * d[c]).exp()
+                    } else {
+                        old[c] + t * d[c]
+                    };
+                }
+                blk.residuals.eval(params, x, &mut work, &mut trial);
+                if trial.iter().all(|v| v.is_finite()) {
+                    let ok = if polishing {
+                        max_abs(&trial) <= max_abs(&r)
+                    } else {
+                        0.5 * norm2(&trial) <= (1.0 - 2.0 * ARMIJO * t) * f
+                            || max_abs(&trial) <= NEWTON_TOL
+                    };
+                    if ok {
+                        accepted = true;
+                        break;
+                    }
+                }
+                if polishing {
+                    break;
+                }
+                t *= 0.5;
+            }
+            if !polishing {
+                iters += 1;
+            }
+            if !accepted {
+                for (c, &j) in blk.variables.iter().enumerate() {
+                    x[j] = old[c];
+                }
+                if polishing {
+                    break;
+                }
+                return None;
+            }
+            r.clone_from(&trial);
+            if polishing {
+                break;
+            }
+            if max_abs(&r) <= NEWTON_TOL {
+                converged_at = Some(iters);
+            }
+        }
+        if converged_at != Some(0) {
+            // Local uniqueness: the block Jacobian at the solution must be nonsingular.
+            blk.jacobian.eval(params, x, &mut work, &mut jv);
+            let mut jac = DMatrix::<f64>::zeros(nb, nb);
+            for (k, &(i, c)) in blk.jacobian_pattern.iter().enumerate() {
+                let j = blk.variables[c];
+                jac[(i, c)] += if log[j] { jv[k] * x[j] } else { jv[k] };
+            }
+            if !locally_unique(&jac) {
+                return None;
+            }
+        }
+        most = most.max(iters);
+    }
+    Some(most)
 }
 
 /// Checks the final residuals against the spec's tolerance and packages the result.
@@ -310,10 +445,7 @@ fn finish(
                 model, compiled, &r,
             )));
         }
-        return Err(SteadyError::NotFound {
-            iterations,
-            report: residual_report(model, compiled, &r),
-        });
+        return Err(not_found(model, compiled, &r, iterations, n_unknown));
     }
     Ok(SteadyState {
         values,

@@ -41,6 +41,24 @@ pub struct CompiledModel {
     pub variables_in: Vec<Vec<usize>>,
     /// No steady-state Jacobian entry depends on a variable: R(x) is affine in x.
     pub is_linear: bool,
+    /// The static system's block-triangular decomposition with a residual and a Jacobian tape per
+    /// block, in solving order; `None` when it is structurally singular.
+    pub steady_blocks: Option<Vec<SteadyBlock>>,
+}
+
+/// A block's Jacobian entries while they are gathered: positions and derivative nodes.
+type BlockEntries = (Vec<(usize, usize)>, Vec<NodeId>);
+
+/// One diagonal block of the static system R(x) = 0 (see [`super::blocks`]).
+#[derive(Debug, Clone)]
+pub struct SteadyBlock {
+    pub equations: Vec<usize>,
+    pub variables: Vec<usize>,
+    /// Outputs: the residuals of `equations`, in order.
+    pub residuals: Tape,
+    /// `(row, column)` within the block of each output of `jacobian`.
+    pub jacobian_pattern: Vec<(usize, usize)>,
+    pub jacobian: Tape,
 }
 
 impl CompiledModel {
@@ -100,7 +118,52 @@ impl CompiledModel {
                 .iter()
                 .all(|l| matches!(l, Leaf::Innovation { .. }))
         });
+        let steady_blocks = if n == model.endogenous.len() {
+            let mut adj = vec![Vec::new(); n];
+            for &(i, j) in &jacobian_pattern {
+                adj[i].push(j);
+            }
+            super::blocks::block_triangular(n, &adj).map(|blocks| {
+                let mut row_of = vec![usize::MAX; n];
+                let mut col_of = vec![usize::MAX; n];
+                let mut block_of = vec![usize::MAX; n];
+                for (b, blk) in blocks.iter().enumerate() {
+                    for (r, &e) in blk.equations.iter().enumerate() {
+                        row_of[e] = r;
+                        block_of[e] = b;
+                    }
+                    for (c, &v) in blk.variables.iter().enumerate() {
+                        col_of[v] = c;
+                    }
+                }
+                let mut per_block: Vec<BlockEntries> = vec![(Vec::new(), Vec::new()); blocks.len()];
+                for (k, &(i, j)) in jacobian_pattern.iter().enumerate() {
+                    let b = block_of[i];
+                    if blocks[b].variables.binary_search(&j).is_ok() {
+                        per_block[b].0.push((row_of[i], col_of[j]));
+                        per_block[b].1.push(jac_nodes[k]);
+                    }
+                }
+                blocks
+                    .into_iter()
+                    .zip(per_block)
+                    .map(|(blk, (pattern, nodes))| {
+                        let res: Vec<NodeId> = blk.equations.iter().map(|&e| roots[e]).collect();
+                        SteadyBlock {
+                            residuals: Tape::compile(&g, &res),
+                            jacobian_pattern: pattern,
+                            jacobian: Tape::compile(&g, &nodes),
+                            equations: blk.equations,
+                            variables: blk.variables,
+                        }
+                    })
+                    .collect()
+            })
+        } else {
+            None
+        };
         CompiledModel {
+            steady_blocks,
             n_equations: n,
             n_variables: model.endogenous.len(),
             residuals: Tape::compile(&g, &roots),

@@ -12,11 +12,12 @@
 //! saddle happens at a steady state (all dates of a variable equal, innovations zero), so a tape
 //! reads only two inputs: the parameter values and one value per endogenous variable.
 
+pub mod blocks;
 mod compiled;
 mod graph;
 mod tape;
 
-pub use compiled::{Coefficient, CompiledModel};
+pub use compiled::{Coefficient, CompiledModel, SteadyBlock};
 pub use graph::{Graph, Leaf, Node, NodeId};
 pub use tape::{Instr, Tape};
 

@@ -6,6 +6,8 @@
 //! compile time for steady-state evaluation: every dated variable `x[t+k]` and `x[ss]` reads the one
 //! value of `x`, every innovation is zero. Integer exponents become `powi`.
 
+use std::collections::{HashMap, HashSet};
+
 use super::graph::{children, step, Graph, Leaf, Node, NodeId};
 use crate::model::{Function, Function2};
 
@@ -40,24 +42,26 @@ impl Tape {
     /// mark, one sweep up to emit).
     pub fn compile(graph: &Graph, outputs: &[NodeId]) -> Tape {
         let nodes = graph.nodes();
-        let top = outputs.iter().copied().max().map_or(0, |m| m as usize + 1);
-        let mut mark = vec![false; top];
-        for &o in outputs {
-            mark[o as usize] = true;
-        }
-        for id in (0..top).rev() {
-            if mark[id] {
-                children(nodes[id], |c| mark[c as usize] = true);
+        // Reachable nodes by an explicit stack (no recursion), then in id order, which is
+        // topological because children always have smaller ids.
+        let mut seen: HashSet<NodeId> = HashSet::with_capacity(outputs.len() * 8);
+        let mut stack: Vec<NodeId> = outputs.to_vec();
+        while let Some(id) = stack.pop() {
+            if seen.insert(id) {
+                children(nodes[id as usize], |c| {
+                    if !seen.contains(&c) {
+                        stack.push(c)
+                    }
+                });
             }
         }
-        let mut slot = vec![u32::MAX; top];
+        let mut ids: Vec<NodeId> = seen.into_iter().collect();
+        ids.sort_unstable();
+        let mut slot: HashMap<NodeId, u32> = HashMap::with_capacity(ids.len());
         let mut instrs = Vec::new();
-        for id in 0..top {
-            if !mark[id] {
-                continue;
-            }
-            let s = |c: NodeId| slot[c as usize];
-            let ins = match nodes[id] {
+        for &id in &ids {
+            let s = |c: NodeId| slot.get(&c).copied().unwrap_or(u32::MAX);
+            let ins = match nodes[id as usize] {
                 Node::Const(bits) => Instr::Const(f64::from_bits(bits)),
                 Node::Param(p) => Instr::Param(p),
                 Node::Leaf(Leaf::Variable { index, .. }) | Node::Leaf(Leaf::SteadyState(index)) => {
@@ -77,10 +81,13 @@ impl Tape {
                 Node::Call2(f, a, b) => Instr::Call2(f, s(a), s(b)),
                 Node::Step(a) => Instr::Step(s(a)),
             };
-            slot[id] = instrs.len() as u32;
+            slot.insert(id, instrs.len() as u32);
             instrs.push(ins);
         }
-        let outputs = outputs.iter().map(|&o| slot[o as usize]).collect();
+        let outputs = outputs
+            .iter()
+            .map(|o| slot.get(o).copied().unwrap_or(u32::MAX))
+            .collect();
         Tape { instrs, outputs }
     }
 
