@@ -359,8 +359,9 @@ fn small_stein(
         for r in (col + 1)..m {
             let factor = mat[r][col] / mat[col][col];
             if factor != 0.0 {
-                for c in col..m {
-                    mat[r][c] -= factor * mat[col][c];
+                let pivot_row = mat[col];
+                for (x, p) in mat[r][col..m].iter_mut().zip(&pivot_row[col..m]) {
+                    *x -= factor * p;
                 }
                 f[r] -= factor * f[col];
             }

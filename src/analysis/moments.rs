@@ -417,7 +417,7 @@ fn core_stationary(
     let mut y_total = DMatrix::<f64>::zeros(ns, ns);
     for j in 0..ne {
         let b = uhl.column(j);
-        let c = &b * b.transpose();
+        let c = b * b.transpose();
         let yj = solve_quasi_triangular_stein(&schur.t, &schur.blocks, &c)?;
         let py = &pu * &yj;
         for i in 0..ny {
