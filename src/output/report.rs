@@ -181,7 +181,7 @@ fn status_banner(s: &SolvedModel) -> String {
         ),
         other => (
             format!("{}: no unique stable solution.", status_name(other)),
-            s.diagnosis.clone().unwrap_or_else(|| {
+            diagnosis_text(s).unwrap_or_else(|| {
                 format!(
                     "{} unstable roots for {} forward-looking elements.",
                     c.unstable, c.forward_looking
@@ -196,6 +196,29 @@ fn status_banner(s: &SolvedModel) -> String {
         escape(&headline),
         escape(&detail)
     )
+}
+
+/// The solver's diagnosis without a leading repetition of the status name (the page shows the
+/// status beside it).
+fn diagnosis_text(s: &SolvedModel) -> Option<String> {
+    let d = s.diagnosis.as_deref()?.trim();
+    let name = status_name(s.status);
+    let rest = d
+        .strip_prefix(name)
+        .or_else(|| d.strip_prefix(s.status.as_str()))
+        .and_then(|r| r.strip_prefix(':').or_else(|| r.strip_prefix('.')))
+        .map(str::trim_start)
+        .filter(|r| !r.is_empty());
+    Some(match rest {
+        Some(r) => {
+            let mut c = r.chars();
+            match c.next() {
+                Some(f) => f.to_uppercase().collect::<String>() + c.as_str(),
+                None => String::new(),
+            }
+        }
+        None => d.to_string(),
+    })
 }
 
 fn status_name(s: Status) -> &'static str {
@@ -445,10 +468,9 @@ fn section_roots(h: &mut String, input: &ReportInput) {
             "The counts match and the rank condition holds: the solution is unique and stable."
                 .to_string()
         }
-        _ => s
-            .diagnosis
-            .clone()
-            .unwrap_or_else(|| "The counting or rank condition fails.".to_string()),
+        _ => {
+            diagnosis_text(s).unwrap_or_else(|| "The counting or rank condition fails.".to_string())
+        }
     };
     h.push_str(&format!(
         "<p class=\"diagnosis\" style=\"--status:{}\"><strong>{}.</strong> {}</p>\n",

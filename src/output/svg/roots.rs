@@ -46,7 +46,7 @@ pub fn root_plot(roots: &[Root], threshold: f64) -> String {
 
     let mut body = String::new();
     // Frame, grid and axes.
-    let ticks = inside_ticks(-radius, radius, 5);
+    let ticks = inside_ticks(-radius, radius, 7);
     let (labels, note) = format_ticks(&ticks);
     for (v, l) in ticks.values.iter().zip(&labels) {
         if *v != 0.0 {
