@@ -277,10 +277,16 @@ pub fn text(s: &SolvedModel) -> String {
 
     out.push_str("\nSteady state\n");
     let mut t = Table::new(&["variable", "value", ""], &[Align::Left, Align::Right]);
+    // Values within rounding (1e-12 of the largest, at least of 1) of zero print as zero.
+    let scale = s.steady_state.iter().fold(
+        1.0f64,
+        |a, v| if v.is_finite() { a.max(v.abs()) } else { a },
+    );
     for (j, v) in s.variables.iter().enumerate() {
+        let x = s.steady_state[j];
         t.row(vec![
             v.clone(),
-            number(s.steady_state[j], 6),
+            number(if x.abs() <= 1e-12 * scale { 0.0 } else { x }, 6),
             if s.log[j] {
                 "(log variable)".to_string()
             } else {
