@@ -289,7 +289,8 @@ impl PreparedModel {
                 limit: MAX_PENCIL_DIM,
             });
         }
-        let pencil = build_pencil(&self.layout, &linear, self.static_treatment)?;
+        let mut pencil = build_pencil(&self.layout, &linear, self.static_treatment)?;
+        equilibrate_rows(&mut pencil);
         timings.canonical_form = t0.elapsed();
 
         let mut warnings = steady.notes.clone();
@@ -639,6 +640,20 @@ fn real_part(m: &DMatrix<C64>) -> (DMatrix<f64>, f64) {
     let big = m.iter().fold(0.0f64, |a, v| a.max(v.norm()));
     let im = m.iter().fold(0.0f64, |a, v| a.max(v.im.abs()));
     (m.map(|v| v.re), if big > 0.0 { im / big } else { 0.0 })
+}
+
+/// Scales each row of the pencil's `[A B C]` by a power of two so that its largest entry lies in
+/// [1/2, 1) (`qz::balance::row_equilibration_exponents`). A row of the canonical form is one
+/// equation, and multiplying an equation by a constant changes neither its roots nor its
+/// solution, so the scaling needs no undoing; powers of two make it exact. It matters when
+/// equations are written in very different units (one in billions, one in fractions): the QZ
+/// judges negligible entries against the norms of the whole matrices, and without this a row
+/// 1e16 times smaller than the others would be treated as zero.
+fn equilibrate_rows(pencil: &mut Pencil) {
+    let exponents = crate::qz::balance::row_equilibration_exponents(&pencil.b, &pencil.a);
+    crate::qz::balance::scale_rows(&mut pencil.a, &exponents);
+    crate::qz::balance::scale_rows(&mut pencil.b, &exponents);
+    crate::qz::balance::scale_rows(&mut pencil.c, &exponents);
 }
 
 /// The formulas of the module doc. `ns` stable roots lead the reordered decomposition.
