@@ -1,5 +1,5 @@
 //! Property tests: no input makes the front end panic, and whatever checks round-trips through
-//! the canonical printer. The default run has 11,000 cases (about ten seconds); the ignored
+//! the canonical printer. The default run has 12,000 cases (about ten seconds); the ignored
 //! tests run 200,000 more (`cargo test --test front_props -- --ignored`).
 
 use proptest::prelude::*;
@@ -17,10 +17,54 @@ const DEMOS: [&str; 4] = [
 
 /// Pieces of the language, so random sequences reach deep parser states.
 const TOKENS: [&str; 48] = [
-    "endogenous", "exogenous", "parameters", "equations", "covariance", "steady", "options",
-    "title", "log", "guess", "t", "ss", "sd", "var", "corr", "exp", "ln", "min", "max", "x", "y",
-    "e", "beta", "k", "0", "1", "0.5", ".5", "1e-3", "2.5E+4", "\"label\"", "\"", "(", ")", "[",
-    "]", ",", ":", "=", "+", "-", "*", "/", "^", "\n", "#", "t+1", "\\",
+    "endogenous",
+    "exogenous",
+    "parameters",
+    "equations",
+    "covariance",
+    "steady",
+    "options",
+    "title",
+    "log",
+    "guess",
+    "t",
+    "ss",
+    "sd",
+    "var",
+    "corr",
+    "exp",
+    "ln",
+    "min",
+    "max",
+    "x",
+    "y",
+    "e",
+    "beta",
+    "k",
+    "0",
+    "1",
+    "0.5",
+    ".5",
+    "1e-3",
+    "2.5E+4",
+    "\"label\"",
+    "\"",
+    "(",
+    ")",
+    "[",
+    "]",
+    ",",
+    ":",
+    "=",
+    "+",
+    "-",
+    "*",
+    "/",
+    "^",
+    "\n",
+    "#",
+    "t+1",
+    "\\",
 ];
 
 /// Checks `src` and, when it checks, that printing and re-reading gives the same model. Every
@@ -30,18 +74,27 @@ fn exercise(src: &str) -> Result<(), TestCaseError> {
         Ok(m) => {
             let printed = print_model(&m);
             let again = check_source(&printed);
-            prop_assert!(again.is_ok(), "reprinted model fails: {:?}\n{printed}", again.err());
+            prop_assert!(
+                again.is_ok(),
+                "reprinted model fails: {:?}\n{printed}",
+                again.err()
+            );
             prop_assert_eq!(again.ok(), Some(m));
         }
         Err(diags) => {
             prop_assert!(!diags.is_empty());
             for d in &diags {
                 prop_assert!(d.span.start <= d.span.end && d.span.end <= src.len());
-                prop_assert!(src.is_char_boundary(d.span.start) && src.is_char_boundary(d.span.end));
+                prop_assert!(
+                    src.is_char_boundary(d.span.start) && src.is_char_boundary(d.span.end)
+                );
                 let _ = line_col(src, d.span.start);
-                let rendered =
-                    saddle::language::diagnostics::render(std::slice::from_ref(d), "p.saddle", src,
-                        saddle::language::diagnostics::Colour::Never);
+                let rendered = saddle::language::diagnostics::render(
+                    std::slice::from_ref(d),
+                    "p.saddle",
+                    src,
+                    saddle::language::diagnostics::Colour::Never,
+                );
                 prop_assert!(!rendered.is_empty());
             }
         }
@@ -60,7 +113,8 @@ enum Edit {
 fn edit() -> impl Strategy<Value = Edit> {
     prop_oneof![
         (any::<usize>(), 1usize..12).prop_map(|(p, n)| Edit::Delete(p, n)),
-        (any::<usize>(), prop::sample::select(TOKENS.to_vec())).prop_map(|(p, t)| Edit::Insert(p, t.to_string())),
+        (any::<usize>(), prop::sample::select(TOKENS.to_vec()))
+            .prop_map(|(p, t)| Edit::Insert(p, t.to_string())),
         (any::<usize>(), "[ -~]{1,3}").prop_map(|(p, s)| Edit::Insert(p, s)),
         any::<usize>().prop_map(Edit::DuplicateLine),
         (any::<usize>(), any::<usize>()).prop_map(|(a, b)| Edit::SwapLines(a, b)),
@@ -173,7 +227,41 @@ proptest! {
 #[test]
 fn mutations_do_change_the_models() {
     // The mutation strategy must actually produce broken models, or the property is vacuous.
-    let broken = apply(DEMOS[0], &[Edit::Delete(1200, 6), Edit::Insert(900, "(".into())]);
+    let broken = apply(
+        DEMOS[0],
+        &[Edit::Delete(1200, 6), Edit::Insert(900, "(".into())],
+    );
     assert_ne!(broken, DEMOS[0]);
     assert!(check_source(&broken).is_err());
+}
+
+proptest! {
+    #![proptest_config(config(1000))]
+    #[test]
+    fn any_finite_parameter_values_print_and_read_back_exactly(
+        values in prop::collection::vec(
+            prop_oneof![
+                any::<f64>().prop_filter("finite", |v| v.is_finite()),
+                (-1e6f64..1e6),
+                (-3i32..4).prop_map(f64::from),
+            ],
+            8,
+        )
+    ) {
+        // The harbour model's parameters (kappa included) replaced by arbitrary numbers: the
+        // canonical text must carry every value exactly, signs and extreme magnitudes included.
+        let m = check_source(DEMOS[0]).unwrap();
+        let names: Vec<String> = m.parameters.iter().map(|p| p.name.clone()).collect();
+        let overrides: Vec<(String, f64)> = names.into_iter().zip(values).collect();
+        let o = m.with_overrides(&overrides).unwrap();
+        let printed = print_model(&o);
+        let again = check_source(&printed);
+        prop_assert!(again.is_ok(), "{:?}\n{printed}", again.err());
+        let again = again.unwrap();
+        for (a, b) in o.parameters.iter().zip(&again.parameters) {
+            prop_assert_eq!(a.value.to_bits() == b.value.to_bits() || a.value == b.value, true,
+                "{} printed as {}", a.value, printed);
+        }
+        prop_assert_eq!(again, o);
+    }
 }
