@@ -80,7 +80,48 @@ fn report(what: &str, (med, lo, hi): (Duration, Duration, Duration)) {
     );
 }
 
+/// The 100 x 100 sweep of the demo economy over (phi_pi, phi_y), prepared once, all cores.
+fn sweep_benchmark() {
+    use saddle::analysis::sweep::{sweep_model, SweepAxis};
+    use saddle::solution::{PreparedModel, SolveOptions};
+    let path = std::path::Path::new(env!("CARGO_MANIFEST_DIR")).join("models/harbour.saddle");
+    let text = std::fs::read_to_string(path).expect("models/harbour.saddle");
+    let model = saddle::model::check::check_source(&text).expect("the demo model checks");
+    let axes = vec![
+        SweepAxis {
+            name: "phi_pi".into(),
+            values: (0..100).map(|i| i as f64 * 0.03).collect(),
+        },
+        SweepAxis {
+            name: "phi_y".into(),
+            values: (0..100).map(|i| i as f64 * 0.01).collect(),
+        },
+    ];
+    let mut counts = Vec::new();
+    let t = time(5, || {
+        let prepared = PreparedModel::new(&model).expect("prepares");
+        let r = sweep_model(
+            &model,
+            &prepared,
+            &SolveOptions::default(),
+            &axes,
+            &|_, _| {},
+        )
+        .expect("sweeps");
+        counts = r.status_counts();
+    });
+    report(
+        &format!(
+            "sweep: harbour economy, 100 x 100 grid, {} threads",
+            rayon::current_num_threads()
+        ),
+        t,
+    );
+    println!("  statuses: {counts:?}");
+}
+
 fn main() {
+    sweep_benchmark();
     for &(ny, ns, ne) in &[
         (200usize, 200usize, 5usize),
         (200, 100, 5),

@@ -56,6 +56,11 @@ pub const ZERO_VARIANCE_RELTOL: f64 = 1e-24;
 /// standard deviations and correlations.
 pub const PIVOT_TOL: f64 = 1e-12;
 
+/// A variance share below this is rounding noise of an exact zero and is printed as 0: the
+/// parts come from sums of products of order one relative to the total, so an exact zero
+/// comes out at a few eps; 64 eps leaves margin and is far below any share worth reading.
+pub const SHARE_NOISE: f64 = 64.0 * f64::EPSILON;
+
 /// Largest autocorrelation lag accepted.
 pub const MAX_LAGS: usize = 10_000;
 /// Largest FEVD horizon accepted.
@@ -343,7 +348,12 @@ pub fn moments(
             (0..ne)
                 .map(|j| {
                     if positive[i] && total > 0.0 {
-                        part[(i, j)] / total
+                        let share = part[(i, j)] / total;
+                        if share < SHARE_NOISE {
+                            0.0
+                        } else {
+                            share
+                        }
                     } else {
                         f64::NAN
                     }

@@ -18,7 +18,8 @@ use std::sync::atomic::{AtomicUsize, Ordering};
 use rayon::prelude::*;
 use thiserror::Error;
 
-use crate::solution::SolvedModel;
+use crate::model::Model;
+use crate::solution::{PreparedModel, SolveOptions, SolvedModel};
 
 /// Largest number of grid points (a CSV of a million rows is already about 80 MB).
 pub const MAX_SWEEP_POINTS: usize = 1_000_000;
@@ -81,6 +82,8 @@ pub enum SweepError {
     EmptyAxis(String),
     #[error("the axis of `{name}` has a non-finite value")]
     NonFinite { name: String },
+    #[error("the model has no parameter `{0}` to vary")]
+    UnknownParameter(String),
     #[error("the grid has {0} points; at most {MAX_SWEEP_POINTS}")]
     TooManyPoints(usize),
 }
@@ -187,6 +190,43 @@ where
         axes: axes.iter().map(|a| a.values.clone()).collect(),
         points,
     })
+}
+
+/// Sweeps `model` (already carrying any `--set` overrides) over `axes`: each point applies the
+/// axis values as overrides (derived parameters recomputed) and solves with the structure
+/// `prepared` once. An unknown parameter is an error before anything runs; everything that goes
+/// wrong at one point (an override the model rejects, no steady state, a numerical failure) is
+/// that point's `error` row. Reads only.
+pub fn sweep_model(
+    model: &Model,
+    prepared: &PreparedModel,
+    options: &SolveOptions,
+    axes: &[SweepAxis],
+    progress: &(dyn Fn(usize, usize) + Sync),
+) -> Result<SweepResult, SweepError> {
+    for a in axes {
+        if model.parameter_index(&a.name).is_none() {
+            return Err(SweepError::UnknownParameter(a.name.clone()));
+        }
+    }
+    run_sweep(
+        axes,
+        |values| {
+            let overrides: Vec<(String, f64)> = axes
+                .iter()
+                .zip(values)
+                .map(|(a, v)| (a.name.clone(), *v))
+                .collect();
+            match model.with_overrides(&overrides) {
+                Err(e) => error_point(values.to_vec(), e.to_string()),
+                Ok(m) => match prepared.solve(&m, options) {
+                    Ok((solved, _)) => point_from_solved(values.to_vec(), &solved),
+                    Err(e) => error_point(values.to_vec(), e.to_string()),
+                },
+            }
+        },
+        progress,
+    )
 }
 
 #[cfg(test)]

@@ -1,11 +1,81 @@
-//! `saddle simulate` (not built yet: this runner is replaced by the issue that builds the command).
+//! `saddle simulate FILE`: paths from seeded innovations (`--seed`, `--periods`, `--burn-in`,
+//! `--levels`), as wide or tidy CSV (`--layout`), JSON or a text table.
 
-use super::args::SimulateArgs;
+use std::time::Instant;
+
+use super::args::{Format, Layout, SimulateArgs};
+use super::config::SolveSettings;
+use super::moments::not_determinate;
+use super::output::emit;
+use super::solve::{load_and_solve, print_timings};
 use super::{Failure, Outcome};
+use saddle::analysis::simulate::{
+    simulate, SimulateError, SimulationSettings, MAX_BURN_IN, MAX_STORED_VALUES,
+};
+use saddle::output::simulate as render;
 
-pub fn run(_args: SimulateArgs) -> Result<Outcome, Failure> {
-    Err(Failure::new(
-        Outcome::NumericalFailure,
-        "`saddle simulate` is not built yet",
-    ))
+fn simulate_failure(e: SimulateError) -> Failure {
+    match e {
+        SimulateError::NotDeterminate { .. } => {
+            Failure::new(Outcome::NoUniqueSolution, e.to_string())
+        }
+        SimulateError::Covariance(_) => Failure::new(Outcome::ModelError, e.to_string()),
+        SimulateError::TooLarge { .. } | SimulateError::BurnInTooLong(_) => {
+            Failure::usage(e.to_string())
+        }
+        other => Failure::numerical(other.to_string()),
+    }
+}
+
+pub fn run(args: SimulateArgs) -> Result<Outcome, Failure> {
+    if args.plot.is_some() {
+        return Err(Failure::usage(
+            "--plot: plotting is not available yet in this build; write the paths as CSV and plot them elsewhere",
+        ));
+    }
+    let settings = SolveSettings::from_args(&args.solve)?;
+    let periods = usize::try_from(args.periods)
+        .ok()
+        .filter(|&p| p <= MAX_STORED_VALUES)
+        .ok_or_else(|| {
+            Failure::usage(format!(
+                "--periods must be at most {MAX_STORED_VALUES}, got {}",
+                args.periods
+            ))
+        })?;
+    let burn_in = usize::try_from(args.burn_in)
+        .ok()
+        .filter(|&b| b <= MAX_BURN_IN)
+        .ok_or_else(|| {
+            Failure::usage(format!(
+                "--burn-in must be at most {MAX_BURN_IN}, got {}",
+                args.burn_in
+            ))
+        })?;
+    let s = load_and_solve(&args.file, &settings)?;
+    if s.solved.solution.is_none() {
+        return not_determinate(&s, args.format, args.out.output.as_deref(), "simulations");
+    }
+    let t0 = Instant::now();
+    let sim = simulate(
+        &s.solved,
+        &SimulationSettings {
+            seed: args.seed,
+            periods,
+            burn_in,
+            levels: args.levels,
+        },
+    )
+    .map_err(simulate_failure)?;
+    let text = match (args.format, args.layout) {
+        (Format::Csv, Layout::Wide) => render::to_csv_wide(&sim),
+        (Format::Csv, Layout::Tidy) => render::to_csv_tidy(&sim),
+        (Format::Json, _) => render::to_json(&sim).to_pretty_string(),
+        (Format::Text, _) => render::to_text(&sim),
+    };
+    emit(args.out.output.as_deref(), text.as_bytes())?;
+    if settings.timings {
+        print_timings(&s, t0.elapsed());
+    }
+    Ok(Outcome::Success)
 }

@@ -1,11 +1,140 @@
-//! `saddle sweep` (not built yet: this runner is replaced by the issue that builds the command).
+//! `saddle sweep FILE --vary NAME=LO:HI:N [--vary ...]`: the solution status over a grid of one or
+//! two parameters, solved in parallel; CSV or JSON rows per cli.md, or a text summary. A progress
+//! bar appears on stderr when it is a terminal and the sweep runs longer than a moment.
 
-use super::args::SweepArgs;
+use std::io::IsTerminal;
+use std::sync::OnceLock;
+use std::time::{Duration, Instant};
+
+use indicatif::{ProgressBar, ProgressDrawTarget, ProgressStyle};
+
+use super::args::{Format, SweepArgs};
+use super::config::{parse_vary, SolveSettings};
+use super::load::load_model;
+use super::output::{emit, eprintln_quiet};
+use super::solve::{apply_overrides, failure, options};
 use super::{Failure, Outcome};
+use saddle::analysis::sweep::{sweep_model, SweepAxis, SweepError};
+use saddle::output::sweep as render;
+use saddle::solution::PreparedModel;
 
-pub fn run(_args: SweepArgs) -> Result<Outcome, Failure> {
-    Err(Failure::new(
-        Outcome::NumericalFailure,
-        "`saddle sweep` is not built yet",
-    ))
+/// The bar appears only once a sweep has run this long (a short sweep stays silent).
+const PROGRESS_DELAY: Duration = Duration::from_millis(400);
+
+pub fn run(args: SweepArgs) -> Result<Outcome, Failure> {
+    if args.plot.is_some() {
+        return Err(Failure::usage(
+            "--plot: plotting is not available yet in this build; write the rows as CSV and plot them elsewhere",
+        ));
+    }
+    let settings = SolveSettings::from_args(&args.solve)?;
+    let axes = args
+        .vary
+        .iter()
+        .map(|v| parse_vary(v))
+        .collect::<Result<Vec<_>, _>>()?;
+    if axes.len() > 2 {
+        return Err(Failure::usage(format!(
+            "--vary may be given once or twice, got {} times",
+            axes.len()
+        )));
+    }
+    let t_load = Instant::now();
+    let (model, _source) = load_model(&args.file)?;
+    let model = apply_overrides(model, &settings.overrides)?;
+    for a in &axes {
+        if model.parameter_index(&a.name).is_none() {
+            let names: Vec<&str> = model.parameters.iter().map(|p| p.name.as_str()).collect();
+            return Err(Failure::usage(format!(
+                "--vary: the model has no parameter `{}` (its parameters: {})",
+                a.name,
+                names.join(", ")
+            )));
+        }
+    }
+    let sweep_axes: Vec<SweepAxis> = axes
+        .iter()
+        .map(|a| SweepAxis {
+            name: a.name.clone(),
+            values: a.values(),
+        })
+        .collect();
+    let prepared = PreparedModel::new(&model).map_err(failure)?;
+    let load_time = t_load.elapsed();
+
+    let start = Instant::now();
+    let on_terminal = std::io::stderr().is_terminal();
+    let bar: OnceLock<ProgressBar> = OnceLock::new();
+    let progress = |done: usize, total: usize| {
+        if !on_terminal {
+            return;
+        }
+        match bar.get() {
+            Some(b) => b.set_position(done as u64),
+            None if start.elapsed() >= PROGRESS_DELAY && done < total => {
+                let b = bar.get_or_init(|| {
+                    let b = ProgressBar::with_draw_target(
+                        Some(total as u64),
+                        ProgressDrawTarget::stderr(),
+                    );
+                    if let Ok(style) = ProgressStyle::with_template(
+                        "sweep {bar:40} {pos}/{len} points, {eta} left",
+                    ) {
+                        b.set_style(style);
+                    }
+                    b
+                });
+                b.set_position(done as u64);
+            }
+            None => {}
+        }
+    };
+    let result = sweep_model(
+        &model,
+        &prepared,
+        &options(&settings),
+        &sweep_axes,
+        &progress,
+    )
+    .map_err(|e| match e {
+        SweepError::UnknownParameter(_)
+        | SweepError::AxisCount(_)
+        | SweepError::Duplicate(_)
+        | SweepError::EmptyAxis(_)
+        | SweepError::NonFinite { .. }
+        | SweepError::TooManyPoints(_) => Failure::usage(e.to_string()),
+    })?;
+    if let Some(b) = bar.get() {
+        b.finish_and_clear();
+    }
+    let sweep_time = start.elapsed();
+    let t0 = Instant::now();
+    let text = match args.format {
+        Format::Csv => render::to_csv(&result),
+        Format::Json => render::to_json(&result).to_pretty_string(),
+        Format::Text => render::to_text(&result),
+    };
+    emit(args.out.output.as_deref(), text.as_bytes())?;
+    if settings.timings {
+        eprintln_quiet("timings:");
+        eprintln_quiet(&format!(
+            "{:<15} {:>10.3} ms",
+            "read, prepare",
+            load_time.as_secs_f64() * 1e3
+        ));
+        eprintln_quiet(&format!(
+            "{:<15} {:>10.3} ms ({} points, {:.1} us per point per core)",
+            "sweep",
+            sweep_time.as_secs_f64() * 1e3,
+            result.points.len(),
+            sweep_time.as_secs_f64() * 1e6 * rayon::current_num_threads() as f64
+                / result.points.len().max(1) as f64
+        ));
+        eprintln_quiet(&format!(
+            "{:<15} {:>10.3} ms",
+            "output",
+            t0.elapsed().as_secs_f64() * 1e3
+        ));
+    }
+    Ok(Outcome::Success)
 }
