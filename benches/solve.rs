@@ -90,7 +90,7 @@ fn generated(nb: usize, nf: usize, nm: usize, ns: usize, ne: usize) -> (Model, S
             (format!("m{}", i - m0), false)
         } else {
             let k = i - s0;
-            (format!("s{k}"), k % 3 == 0)
+            (format!("s{k}"), k.is_multiple_of(3))
         };
         vars.push(Endogenous {
             name,

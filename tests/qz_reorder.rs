@@ -23,7 +23,7 @@ fn random_unitary(rng: &mut Rng, n: usize) -> DMatrix<C64> {
 fn random_selection(initial: Vec<(C64, C64)>, rng: &mut Rng) -> impl Fn(C64, C64) -> bool {
     let flags: Vec<bool> = initial
         .iter()
-        .map(|(_, be)| be.norm() != 0.0 && rng.next_u64() % 2 == 0)
+        .map(|(_, be)| be.norm() != 0.0 && rng.next_u64().is_multiple_of(2))
         .collect();
     move |al: C64, be: C64| {
         let mut best = (f64::INFINITY, false);

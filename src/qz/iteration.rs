@@ -355,11 +355,11 @@ pub(crate) fn qz_iterate(
                 sweeps += 1;
                 iiter += 1;
                 let period = params.exceptional_shift_period;
-                let shift = if period > 0 && iiter % period == 0 {
+                let shift = if period > 0 && iiter.is_multiple_of(period) {
                     // Exceptional shift (perturbs a stalled iteration out of a cycle): add the
                     // last diagonal ratio or the last subdiagonal ratio to the running shift.
                     let tl = w.t(ilast, ilast).scale(w.bscale);
-                    if iiter % (2 * period) == 0 && abs1(tl) > SAFE_MIN {
+                    if iiter.is_multiple_of(2 * period) && abs1(tl) > SAFE_MIN {
                         eshift += cdiv(w.h(ilast, ilast).scale(w.ascale), tl);
                     } else {
                         eshift += cdiv(
