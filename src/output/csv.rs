@@ -10,15 +10,18 @@ pub fn field(s: &str) -> String {
     }
 }
 
-/// A number as CSV text: shortest representation that reads back to the same `f64`; non-finite
-/// values as `NaN`, `inf`, `-inf`.
+/// A number as CSV text: the shortest representation that reads back to the same `f64`
+/// (plain decimals for moderate magnitudes, exponent notation below 1e-5 and from 1e16 on, so
+/// `1e-300` is not written out with 300 zeros); non-finite values as `NaN`, `inf`, `-inf`.
 pub fn number(x: f64) -> String {
     if x.is_nan() {
         "NaN".to_string()
     } else if x.is_infinite() {
         if x > 0.0 { "inf" } else { "-inf" }.to_string()
-    } else {
+    } else if x == 0.0 || (1e-5..1e16).contains(&x.abs()) {
         format!("{x}")
+    } else {
+        format!("{x:e}")
     }
 }
 
@@ -44,6 +47,11 @@ mod tests {
         assert_eq!(field("plain"), "plain");
         let x = 0.1 + 0.2;
         assert_eq!(number(x).parse::<f64>().unwrap(), x);
+        assert_eq!(number(1e-300), "1e-300");
+        assert_eq!(number(0.25), "0.25");
+        assert_eq!(number(-3.0), "-3");
+        assert_eq!(number(1.5e20), "1.5e20");
+        assert_eq!(number(1e-300).parse::<f64>().unwrap(), 1e-300);
         let mut s = String::new();
         record(&mut s, &["shock", "variable", "period", "value"]);
         assert_eq!(s, "shock,variable,period,value\n");
