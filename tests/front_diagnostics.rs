@@ -92,7 +92,11 @@ fn diagnostic_files() -> Vec<PathBuf> {
         .filter(|p| p.extension().is_some_and(|x| x == "saddle"))
         .collect();
     v.sort();
-    assert!(v.len() >= 20, "expected the annotated files in {}", dir.display());
+    assert!(
+        v.len() >= 20,
+        "expected the annotated files in {}",
+        dir.display()
+    );
     v
 }
 
@@ -112,7 +116,10 @@ fn every_annotated_file_gives_its_diagnostics_through_the_binary() {
         let name = path.file_name().unwrap().to_string_lossy().into_owned();
         let stderr = String::from_utf8_lossy(&out.stderr).into_owned();
         if out.status.code() != Some(1) {
-            failures.push(format!("{name}: exit status {:?}, expected 1", out.status.code()));
+            failures.push(format!(
+                "{name}: exit status {:?}, expected 1",
+                out.status.code()
+            ));
         }
         if !out.stdout.is_empty() {
             failures.push(format!("{name}: printed on stdout"));
@@ -154,7 +161,12 @@ fn every_annotated_file_has_its_spans_in_process() {
         let src = std::fs::read_to_string(&path).unwrap();
         let expected = annotations(&src);
         let diags = check_source(&src).expect_err("an annotated file must not check");
-        assert_eq!(diags.len(), expected.len(), "{}: {diags:#?}", path.display());
+        assert_eq!(
+            diags.len(),
+            expected.len(),
+            "{}: {diags:#?}",
+            path.display()
+        );
         for e in &expected {
             assert!(
                 diags.iter().any(|d| d.message.contains(&e.message)
@@ -212,7 +224,12 @@ fn canonical_output_written_to_a_file_checks_again() {
         .arg(&model)
         .output()
         .unwrap();
-    assert_eq!(out.status.code(), Some(0), "{}", String::from_utf8_lossy(&out.stderr));
+    assert_eq!(
+        out.status.code(),
+        Some(0),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
     assert!(out.stdout.is_empty());
     let printed = std::fs::read_to_string(&target).unwrap();
     let original = check_source(&std::fs::read_to_string(&model).unwrap()).unwrap();
@@ -246,4 +263,35 @@ fn a_missing_file_is_a_command_line_error() {
         .unwrap();
     assert_eq!(out.status.code(), Some(2));
     assert!(String::from_utf8_lossy(&out.stderr).contains("cannot read"));
+}
+
+#[test]
+fn a_closed_stdout_pipe_ends_quietly() {
+    // `saddle check ... | head -1`: output larger than a pipe buffer into a pipe whose reader
+    // has gone must not panic.
+    let dir = tempfile::tempdir().unwrap();
+    let path = dir.path().join("big.saddle");
+    let mut src = String::from("endogenous\n");
+    for i in 0..3000 {
+        src.push_str(&format!(
+            "  x{i} \"a variable with a long label to make the output large\"\n"
+        ));
+    }
+    src.push_str("equations\n");
+    for i in 0..3000 {
+        src.push_str(&format!("  x{i} = 0.5 * x{i}[t-1]\n"));
+    }
+    std::fs::write(&path, src).unwrap();
+    let mut child = Command::new(env!("CARGO_BIN_EXE_saddle"))
+        .arg("check")
+        .arg(&path)
+        .stdout(std::process::Stdio::piped())
+        .stderr(std::process::Stdio::piped())
+        .spawn()
+        .unwrap();
+    drop(child.stdout.take());
+    let out = child.wait_with_output().unwrap();
+    let err = String::from_utf8_lossy(&out.stderr);
+    assert!(!err.contains("panicked"), "{err}");
+    assert_eq!(out.status.code(), Some(0), "{err}");
 }

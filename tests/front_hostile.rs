@@ -115,7 +115,9 @@ fn hostile_files_through_the_binary() {
         ),
         (
             "random.bin",
-            (0..4096u32).map(|i| (i.wrapping_mul(2_654_435_761) >> 13) as u8).collect(),
+            (0..4096u32)
+                .map(|i| (i.wrapping_mul(2_654_435_761) >> 13) as u8)
+                .collect(),
             "not a text model file",
         ),
     ];
@@ -135,4 +137,54 @@ fn hostile_files_through_the_binary() {
         assert!(err.contains(expect), "{name}: {err}");
         assert!(!err.contains("panicked"), "{name}: {err}");
     }
+}
+
+#[test]
+fn quadratic_traps_stay_linear() {
+    let n = 50_000;
+    // Many valueless parameters; many unknown names among many declared ones; a long chain of
+    // parameters that each also refer to themselves (a cycle at every depth of the search).
+    let mut src = String::from("endogenous\n  x\nequations\n  x = x[t-1]\nparameters\n");
+    for i in 0..n {
+        src.push_str(&format!(
+            "  v{i}\n  p{i} = p{i} + p{} + unknown{i}\n",
+            i + 1
+        ));
+    }
+    src.push_str(&format!("  p{n} = 1\n"));
+    let started = Instant::now();
+    let d = check_source(&src).unwrap_err();
+    eprintln!("many valueless and unknown: {:?}", started.elapsed());
+    assert!(started.elapsed() < QUICK, "took {:?}", started.elapsed());
+    assert_eq!(d.len(), saddle::language::diagnostics::MAX_DIAGNOSTICS + 1);
+    // A long cycle is shown by its first links.
+    let mut src = String::from("endogenous\n  x\nequations\n  x = x[t-1]\nparameters\n");
+    for i in 0..n {
+        src.push_str(&format!("  p{i} = p{}\n", (i + 1) % n));
+    }
+    let started = Instant::now();
+    let d = check_source(&src).unwrap_err();
+    eprintln!("long cycle: {:?}", started.elapsed());
+    assert!(started.elapsed() < QUICK, "took {:?}", started.elapsed());
+    assert_eq!(d.len(), 1);
+    assert!(
+        d[0].message.contains("(50000 in the cycle)"),
+        "{}",
+        d[0].message
+    );
+    assert!(d[0].labels.len() < 20);
+}
+
+#[test]
+fn too_many_innovations_are_refused_before_building_their_matrix() {
+    let mut src = String::from("endogenous\n  x\nexogenous\n");
+    for i in 0..200_000 {
+        src.push_str(&format!("  e{i}\n"));
+    }
+    src.push_str("equations\n  x = e0\n");
+    let started = Instant::now();
+    let d = check_source(&src).unwrap_err();
+    assert!(started.elapsed() < QUICK);
+    assert_eq!(d.len(), 1);
+    assert_eq!(d[0].code, "too-many-innovations");
 }

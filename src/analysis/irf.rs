@@ -1,1 +1,140 @@
-//! (under construction)
+//! Impulse responses.
+//!
+//! Contract: for a determinate solution y_t = P s_{t-1} + Q e_t, s_t = G s_{t-1} + H e_t and an
+//! impulse e_0 = size * u_k (u_k the k-th unit vector; size = sqrt(Sigma_kk) for one standard
+//! deviation, 1 for a unit impulse) with no innovations after it and s_{-1} = 0, the response at
+//! horizon h is y_0 = Q e_0, and y_h = P s_{h-1} with s_0 = H e_0, s_h = G s_{h-1}. Responses are
+//! deviations from the steady state (log deviations for `log` variables).
+
+use nalgebra::{DMatrix, DVector};
+
+use crate::solution::{SolvedModel, Status};
+
+/// Longest horizon accepted (a response of 10^5 periods is already far beyond any use; the cap
+/// bounds memory at variables * horizon * 8 bytes per shock).
+pub const MAX_HORIZON: usize = 100_000;
+
+/// Most response values computed in one call (shocks x variables x periods): 2e7 values are
+/// 160 MB, beyond which the request is a mistake rather than an analysis.
+pub const MAX_VALUES: usize = 20_000_000;
+
+/// The size of the impulse.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum ImpulseSize {
+    /// One standard deviation of the innovation (from the covariance diagonal).
+    OneSd,
+    /// A unit impulse.
+    Unit,
+}
+
+impl ImpulseSize {
+    /// The contract's spelling (`one-sd`, `unit`).
+    pub fn as_str(self) -> &'static str {
+        match self {
+            ImpulseSize::OneSd => "one-sd",
+            ImpulseSize::Unit => "unit",
+        }
+    }
+}
+
+/// Responses of every declared variable to each selected innovation.
+#[derive(Debug, Clone, PartialEq)]
+pub struct ImpulseResponses {
+    pub horizon: usize,
+    pub size: ImpulseSize,
+    /// Names of the shocked innovations, in the order asked.
+    pub shocks: Vec<String>,
+    /// Declared variables, declaration order.
+    pub variables: Vec<String>,
+    /// Per shock: variables x (horizon + 1).
+    pub responses: Vec<DMatrix<f64>>,
+    /// Per shock: the impulse size used.
+    pub impulse: Vec<f64>,
+}
+
+/// Why impulse responses could not be computed.
+#[derive(Debug, Clone, PartialEq, thiserror::Error)]
+pub enum IrfError {
+    #[error("impulse responses need a unique stable solution, but the model's status is {0}")]
+    NoSolution(&'static str),
+    #[error("innovation index {0} does not exist")]
+    UnknownShock(usize),
+    #[error("the horizon {0} is above the limit of {MAX_HORIZON} periods")]
+    HorizonTooLong(usize),
+    #[error("{0} response values were asked for (shocks x variables x periods), above the limit of {MAX_VALUES}; ask for fewer shocks or a shorter horizon")]
+    TooMany(usize),
+    #[error("the standard deviation of {shock} is not a finite non-negative number ({value})")]
+    BadSd { shock: String, value: f64 },
+}
+
+/// Computes the responses to each innovation in `shocks` (indices into `solved.shocks`; empty
+/// means all) for `horizon` periods after the impulse (see the module doc).
+pub fn impulse_responses(
+    solved: &SolvedModel,
+    shocks: &[usize],
+    size: ImpulseSize,
+    horizon: usize,
+) -> Result<ImpulseResponses, IrfError> {
+    let Some(space) = solved.solution.as_ref() else {
+        return Err(IrfError::NoSolution(solved.status.as_str()));
+    };
+    if solved.status != Status::Determinate {
+        return Err(IrfError::NoSolution(solved.status.as_str()));
+    }
+    if horizon > MAX_HORIZON {
+        return Err(IrfError::HorizonTooLong(horizon));
+    }
+    let all: Vec<usize> = (0..solved.shocks.len()).collect();
+    let shocks = if shocks.is_empty() { &all[..] } else { shocks };
+    let nv = space.p.nrows();
+    let values = shocks
+        .len()
+        .saturating_mul(nv.max(1))
+        .saturating_mul(horizon + 1);
+    if values > MAX_VALUES {
+        return Err(IrfError::TooMany(values));
+    }
+    let mut responses = Vec::with_capacity(shocks.len());
+    let mut impulse = Vec::with_capacity(shocks.len());
+    let mut names = Vec::with_capacity(shocks.len());
+    for &k in shocks {
+        if k >= space.q.ncols() || k >= solved.shocks.len() {
+            return Err(IrfError::UnknownShock(k));
+        }
+        let amount = match size {
+            ImpulseSize::Unit => 1.0,
+            ImpulseSize::OneSd => {
+                let var = if k < solved.covariance.nrows() && k < solved.covariance.ncols() {
+                    solved.covariance[(k, k)]
+                } else {
+                    1.0
+                };
+                if !(var.is_finite() && var >= 0.0) {
+                    return Err(IrfError::BadSd {
+                        shock: solved.shocks[k].clone(),
+                        value: var.sqrt(),
+                    });
+                }
+                var.sqrt()
+            }
+        };
+        let mut out = DMatrix::<f64>::zeros(nv, horizon + 1);
+        out.column_mut(0).copy_from(&(space.q.column(k) * amount));
+        let mut s: DVector<f64> = space.h.column(k) * amount;
+        for h in 1..=horizon {
+            out.column_mut(h).copy_from(&(&space.p * &s));
+            s = &space.g * &s;
+        }
+        responses.push(out);
+        impulse.push(amount);
+        names.push(solved.shocks[k].clone());
+    }
+    Ok(ImpulseResponses {
+        horizon,
+        size,
+        shocks: names,
+        variables: solved.variables.clone(),
+        responses,
+        impulse,
+    })
+}

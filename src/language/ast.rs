@@ -3,15 +3,18 @@
 //! Contract: the tree mirrors the file statement by statement. Names are still text; resolving
 //! them (and every check of spec §5) is the job of `model::check`. Every expression node records
 //! its nesting depth, and the parser never builds one deeper than
-//! [`crate::model::MAX_EXPR_DEPTH`] (it puts [`ExprKind::TooDeep`] there instead), so every
+//! [`super::parser::MAX_EXPR_DEPTH`] (it puts [`ExprKind::TooDeep`] there instead), so every
 //! recursive pass over the tree, dropping included, runs in bounded stack.
+//!
+//! Statements and expressions are boxed where the parser moves them: the LR parser's stack holds
+//! one value per symbol, and small symbols keep parsing fast (see docs/performance.md).
 
 use super::span::Span;
 
 /// A name as written, with its place.
 #[derive(Debug, Clone, PartialEq)]
-pub struct Name {
-    pub text: String,
+pub struct Name<'a> {
+    pub text: &'a str,
     pub span: Span,
 }
 
@@ -76,52 +79,52 @@ impl Func {
 
 /// An expression node.
 #[derive(Debug, Clone, PartialEq)]
-pub struct Expr {
-    pub kind: ExprKind,
+pub struct Expr<'a> {
+    pub kind: ExprKind<'a>,
     pub span: Span,
     /// Nesting depth (a leaf has depth 1).
     pub depth: u32,
 }
 
 #[derive(Debug, Clone, PartialEq)]
-pub enum ExprKind {
+pub enum ExprKind<'a> {
     /// A numeric literal: its value and whether it was written as an integer (digits only).
     Number {
         value: f64,
         integer: bool,
     },
     /// A bare name.
-    Name(String),
+    Name(&'a str),
     /// `name[index]`; the index is any expression here and is classified by the checker
     /// (`t`, `t+k`, `t-k`, `ss`).
     Indexed {
-        name: Name,
-        index: Box<Expr>,
+        name: Name<'a>,
+        index: Box<Expr<'a>>,
     },
     /// The reserved word `t` (meaningful only inside a time index).
     Time,
     /// The reserved word `ss` (meaningful only as an index).
     SteadyMark,
-    Neg(Box<Expr>),
-    Binary(BinOp, Box<Expr>, Box<Expr>),
+    Neg(Box<Expr<'a>>),
+    Binary(BinOp, Box<Expr<'a>>, Box<Expr<'a>>),
     /// A built-in function; the argument count is checked later.
     Call {
         func: Func,
         func_span: Span,
-        args: Vec<Expr>,
+        args: Vec<Expr<'a>>,
     },
     /// `name(...)` where `name` is not a built-in function.
     UnknownCall {
-        name: Name,
-        args: Vec<Expr>,
+        name: Name<'a>,
+        args: Vec<Expr<'a>>,
     },
     /// Stands for an expression nested too deep (already reported).
     TooDeep,
 }
 
-impl Expr {
+impl<'a> Expr<'a> {
     /// Calls `visit` on every node, parents before children (recursive; depth is bounded).
-    pub fn walk<'a>(&'a self, visit: &mut impl FnMut(&'a Expr)) {
+    pub fn walk<'s>(&'s self, visit: &mut impl FnMut(&'s Expr<'a>)) {
         visit(self);
         match &self.kind {
             ExprKind::Indexed { index, .. } => index.walk(visit),
@@ -142,34 +145,34 @@ impl Expr {
 
 /// `[log] name ["label"]` in `endogenous`.
 #[derive(Debug, Clone, PartialEq)]
-pub struct EndogenousDecl {
+pub struct EndogenousDecl<'a> {
     pub log: Option<Span>,
-    pub name: Name,
+    pub name: Name<'a>,
     pub label: Option<StringLit>,
 }
 
 /// `name ["label"]` in `exogenous`.
 #[derive(Debug, Clone, PartialEq)]
-pub struct ExogenousDecl {
-    pub name: Name,
+pub struct ExogenousDecl<'a> {
+    pub name: Name<'a>,
     pub label: Option<StringLit>,
 }
 
 /// `name = expr ["label"]` in `parameters` (`value` is `None` for a bare `name ["label"]`).
 #[derive(Debug, Clone, PartialEq)]
-pub struct ParameterDecl {
-    pub name: Name,
-    pub value: Option<Expr>,
+pub struct ParameterDecl<'a> {
+    pub name: Name<'a>,
+    pub value: Option<Box<Expr<'a>>>,
     pub label: Option<StringLit>,
     pub span: Span,
 }
 
 /// `[label:] lhs [= rhs]` in `equations`.
 #[derive(Debug, Clone, PartialEq)]
-pub struct EquationDecl {
-    pub label: Option<Name>,
-    pub lhs: Expr,
-    pub rhs: Option<Expr>,
+pub struct EquationDecl<'a> {
+    pub label: Option<Name<'a>>,
+    pub lhs: Box<Expr<'a>>,
+    pub rhs: Option<Box<Expr<'a>>>,
     pub span: Span,
 }
 
@@ -182,34 +185,34 @@ pub enum CovarianceKind {
 
 /// `sd(e) = expr`, `var(e) = expr` or `corr(e1, e2) = expr`.
 #[derive(Debug, Clone, PartialEq)]
-pub struct CovarianceDecl {
+pub struct CovarianceDecl<'a> {
     pub kind: CovarianceKind,
     /// One name for `sd` and `var`, two for `corr`.
-    pub shocks: Vec<Name>,
-    pub value: Expr,
+    pub shocks: Vec<Name<'a>>,
+    pub value: Box<Expr<'a>>,
     pub span: Span,
 }
 
 /// `[guess] name = expr` in `steady`.
 #[derive(Debug, Clone, PartialEq)]
-pub struct SteadyDecl {
+pub struct SteadyDecl<'a> {
     pub guess: Option<Span>,
-    pub name: Name,
-    pub value: Expr,
+    pub name: Name<'a>,
+    pub value: Box<Expr<'a>>,
     pub span: Span,
 }
 
 /// `name = expr` in `options`.
 #[derive(Debug, Clone, PartialEq)]
-pub struct OptionDecl {
-    pub name: Name,
-    pub value: Expr,
+pub struct OptionDecl<'a> {
+    pub name: Name<'a>,
+    pub value: Box<Expr<'a>>,
     pub span: Span,
 }
 
 /// One statement of the file.
 #[derive(Debug, Clone, PartialEq)]
-pub enum Statement {
+pub enum Statement<'a> {
     /// `title "..."` (the string is `None` when missing, already reported).
     Title {
         keyword: Span,
@@ -220,19 +223,19 @@ pub enum Statement {
         section: super::lexer::Section,
         keyword: Span,
     },
-    Endogenous(Vec<EndogenousDecl>),
-    Exogenous(Vec<ExogenousDecl>),
-    Parameter(ParameterDecl),
-    Equation(EquationDecl),
-    Covariance(CovarianceDecl),
-    Steady(SteadyDecl),
-    Option(OptionDecl),
+    Endogenous(Vec<EndogenousDecl<'a>>),
+    Exogenous(Vec<ExogenousDecl<'a>>),
+    Parameter(Box<ParameterDecl<'a>>),
+    Equation(Box<EquationDecl<'a>>),
+    Covariance(Box<CovarianceDecl<'a>>),
+    Steady(Box<SteadyDecl<'a>>),
+    Option(Box<OptionDecl<'a>>),
     /// A statement that did not parse (already reported).
     Error,
 }
 
 /// A whole file: its statements in order.
 #[derive(Debug, Clone, PartialEq, Default)]
-pub struct File {
-    pub statements: Vec<Statement>,
+pub struct File<'a> {
+    pub statements: Vec<Statement<'a>>,
 }

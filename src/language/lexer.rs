@@ -300,6 +300,17 @@ impl Tok<'_> {
     }
 }
 
+/// What the last token of an open statement says about the line rule.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+enum Last {
+    /// An operator, `=`, `,`, `:` or an opening bracket: the statement continues.
+    Continues,
+    /// Anything else: a line end ends the statement.
+    Ends,
+    /// A [`Tok::Invalid`]: the rest of the statement is being skipped.
+    Invalid,
+}
+
 /// The lexer never hands an error to the parser (problems go to [`Lexer::diagnostics`]); this
 /// type exists because the parser's interface asks for one.
 #[derive(Debug, Clone, PartialEq, Eq, Default)]
@@ -319,9 +330,12 @@ pub struct Lexer<'a> {
     /// Tokens decided but not yet handed out.
     queue: std::collections::VecDeque<(usize, Tok<'a>, usize)>,
     /// The last token handed out (or queued) in the current statement; `None` at a statement start.
-    last: Option<Tok<'a>>,
+    last: Option<Last>,
     /// Tokens in the current statement.
     statement_tokens: usize,
+    /// End offset of the last token handed out (where a statement's newline token is placed, so
+    /// that "expected ... found the end of the line" points at the statement, not at a comment).
+    last_end: usize,
     /// The rest of the statement is being skipped after an error that makes it meaningless.
     skipping: bool,
     /// While skipping: the last skipped token continues the line.
@@ -344,6 +358,7 @@ impl<'a> Lexer<'a> {
             queue: std::collections::VecDeque::new(),
             last: None,
             statement_tokens: 0,
+            last_end: 0,
             skipping: false,
             skip_continues: false,
             at_line_start: true,
@@ -376,6 +391,7 @@ impl<'a> Lexer<'a> {
             }
         }
         self.statement_tokens += 1;
+        self.last_end = end;
         if self.statement_tokens > MAX_STATEMENT_TOKENS {
             self.diagnostics.push(
                 Diagnostic::error(
@@ -389,7 +405,11 @@ impl<'a> Lexer<'a> {
             self.invalidate(start);
             return;
         }
-        self.last = Some(tok.clone());
+        self.last = Some(if tok.continues_line() {
+            Last::Continues
+        } else {
+            Last::Ends
+        });
         self.queue.push_back((start, tok, end));
     }
 
@@ -399,14 +419,16 @@ impl<'a> Lexer<'a> {
             self.queue.push_back((at, Tok::Item(self.section), at));
         }
         self.queue.push_back((at, Tok::Invalid, at));
-        self.last = Some(Tok::Invalid);
+        self.last = Some(Last::Invalid);
         self.skipping = true;
     }
 
-    /// Ends the current statement (if one is open) with a newline token at `at`.
-    fn end_statement(&mut self, at: usize, width: usize) {
+    /// Ends the current statement (if one is open) with a zero-width newline token right after
+    /// its last token.
+    fn end_statement(&mut self) {
         if self.last.is_some() {
-            self.queue.push_back((at, Tok::Newline, at + width));
+            let at = self.last_end;
+            self.queue.push_back((at, Tok::Newline, at));
         }
         self.last = None;
         self.statement_tokens = 0;
@@ -491,13 +513,12 @@ impl<'a> Lexer<'a> {
             let Some((raw, range)) = self.raw.next() else {
                 if !self.finished {
                     self.finished = true;
-                    let end = self.source.len();
                     if let Some(open) = self.brackets.last().copied() {
                         if !self.skipping {
                             self.unclosed(open);
                         }
                     }
-                    self.end_statement(end, 0);
+                    self.end_statement();
                 }
                 return;
             };
@@ -516,10 +537,10 @@ impl<'a> Lexer<'a> {
                     || if self.skipping {
                         self.skip_continues
                     } else {
-                        self.last.as_ref().is_some_and(Tok::continues_line)
+                        self.last == Some(Last::Continues)
                     };
                 if !continues {
-                    self.end_statement(span.start, 1);
+                    self.end_statement();
                 }
                 continue;
             }
@@ -537,7 +558,7 @@ impl<'a> Lexer<'a> {
                     if !self.skipping {
                         self.unclosed(open);
                     }
-                    self.end_statement(span.start, 0);
+                    self.end_statement();
                 }
             }
             if self.skipping {
@@ -625,9 +646,9 @@ impl<'a> Lexer<'a> {
                 "add the missing `{closer}`; inside brackets a statement continues onto the next line"
             )),
         );
-        if self.last.is_some() && self.last != Some(Tok::Invalid) {
+        if self.last.is_some() && self.last != Some(Last::Invalid) {
             self.queue.push_back((open.start, Tok::Invalid, open.start));
-            self.last = Some(Tok::Invalid);
+            self.last = Some(Last::Invalid);
         }
     }
 }

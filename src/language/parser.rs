@@ -13,7 +13,6 @@ use super::ast::{BinOp, Expr, ExprKind, File, Func, Name};
 use super::diagnostics::Diagnostic;
 use super::lexer::{LexError, Lexer, Section, Tok};
 use super::span::Span;
-use crate::model::MAX_EXPR_DEPTH;
 
 lalrpop_mod!(
     #[allow(
@@ -26,6 +25,12 @@ lalrpop_mod!(
     grammar,
     "/saddle.rs"
 );
+
+/// Deepest expression the parser builds. It equals the checked model's limit
+/// (`model::MAX_EXPR_DEPTH`, asserted at compile time in `model::check`; the language module
+/// does not import from the model, which comes after it on the data's path), and checking never
+/// makes an expression deeper.
+pub const MAX_EXPR_DEPTH: usize = 512;
 
 /// Largest model file accepted, in bytes. A generated model of 100,000 equations is about 10 MB;
 /// the limit keeps memory and time bounded for anything larger (which is not a model a person or
@@ -51,18 +56,24 @@ impl<'input> ParseContext<'input> {
     }
 
     /// A leaf expression.
-    pub fn leaf(&mut self, kind: ExprKind, span: Span) -> Expr {
-        Expr {
+    pub fn leaf(&mut self, kind: ExprKind<'input>, span: Span) -> Box<Expr<'input>> {
+        Box::new(Expr {
             kind,
             span,
             depth: 1,
-        }
+        })
     }
 
     /// A node over children of depth `depth - 1` at most; replaced by [`ExprKind::TooDeep`] (and
     /// reported) when it would exceed [`MAX_EXPR_DEPTH`]. A child that is already `TooDeep` makes
     /// the parent `TooDeep` without a second report, so a long chain is reported once.
-    fn node(&mut self, kind: ExprKind, span: Span, child_depth: u32, any_too_deep: bool) -> Expr {
+    fn node(
+        &mut self,
+        kind: ExprKind<'input>,
+        span: Span,
+        child_depth: u32,
+        any_too_deep: bool,
+    ) -> Box<Expr<'input>> {
         if any_too_deep {
             return self.leaf(ExprKind::TooDeep, span);
         }
@@ -82,56 +93,60 @@ impl<'input> ParseContext<'input> {
             );
             return self.leaf(ExprKind::TooDeep, span);
         }
-        Expr { kind, span, depth }
+        Box::new(Expr { kind, span, depth })
     }
 
-    pub fn binary(&mut self, op: BinOp, a: Expr, b: Expr) -> Expr {
+    pub fn binary(
+        &mut self,
+        op: BinOp,
+        a: Box<Expr<'input>>,
+        b: Box<Expr<'input>>,
+    ) -> Box<Expr<'input>> {
         let span = a.span.join(b.span);
         let d = a.depth.max(b.depth);
         let deep = matches!(a.kind, ExprKind::TooDeep) || matches!(b.kind, ExprKind::TooDeep);
-        self.node(
-            ExprKind::Binary(op, Box::new(a), Box::new(b)),
-            span,
-            d,
-            deep,
-        )
+        self.node(ExprKind::Binary(op, a, b), span, d, deep)
     }
 
-    pub fn negate(&mut self, start: usize, e: Expr) -> Expr {
+    pub fn negate(&mut self, start: usize, e: Box<Expr<'input>>) -> Box<Expr<'input>> {
         let span = Span::new(start, e.span.end);
         let d = e.depth;
         let deep = matches!(e.kind, ExprKind::TooDeep);
-        self.node(ExprKind::Neg(Box::new(e)), span, d, deep)
+        self.node(ExprKind::Neg(e), span, d, deep)
     }
 
     /// Unary plus: the operand itself, its span widened to the sign.
-    pub fn widen(&mut self, start: usize, mut e: Expr) -> Expr {
+    pub fn widen(&mut self, start: usize, mut e: Box<Expr<'input>>) -> Box<Expr<'input>> {
         e.span = Span::new(start, e.span.end);
         e
     }
 
     /// A parenthesized expression: the inner one with its span widened to the parentheses.
-    pub fn group(&mut self, mut e: Expr, span: Span) -> Expr {
+    pub fn group(&mut self, mut e: Box<Expr<'input>>, span: Span) -> Box<Expr<'input>> {
         e.span = span;
         e
     }
 
-    pub fn indexed(&mut self, name: Name, index: Expr, end: usize) -> Expr {
+    pub fn indexed(
+        &mut self,
+        name: Name<'input>,
+        index: Box<Expr<'input>>,
+        end: usize,
+    ) -> Box<Expr<'input>> {
         let span = Span::new(name.span.start, end);
         let d = index.depth;
         let deep = matches!(index.kind, ExprKind::TooDeep);
-        self.node(
-            ExprKind::Indexed {
-                name,
-                index: Box::new(index),
-            },
-            span,
-            d,
-            deep,
-        )
+        self.node(ExprKind::Indexed { name, index }, span, d, deep)
     }
 
-    pub fn call(&mut self, func: Func, func_span: Span, args: Vec<Expr>, span: Span) -> Expr {
+    pub fn call(
+        &mut self,
+        func: Func,
+        func_span: Span,
+        args: Vec<Box<Expr<'input>>>,
+        span: Span,
+    ) -> Box<Expr<'input>> {
+        let args: Vec<Expr<'input>> = args.into_iter().map(|a| *a).collect();
         let d = args.iter().map(|a| a.depth).max().unwrap_or(0);
         let deep = args.iter().any(|a| matches!(a.kind, ExprKind::TooDeep));
         self.node(
@@ -146,7 +161,13 @@ impl<'input> ParseContext<'input> {
         )
     }
 
-    pub fn unknown_call(&mut self, name: Name, args: Vec<Expr>, end: usize) -> Expr {
+    pub fn unknown_call(
+        &mut self,
+        name: Name<'input>,
+        args: Vec<Box<Expr<'input>>>,
+        end: usize,
+    ) -> Box<Expr<'input>> {
+        let args: Vec<Expr<'input>> = args.into_iter().map(|a| *a).collect();
         let span = Span::new(name.span.start, end);
         let d = args.iter().map(|a| a.depth).max().unwrap_or(0);
         let deep = args.iter().any(|a| matches!(a.kind, ExprKind::TooDeep));
@@ -154,7 +175,7 @@ impl<'input> ParseContext<'input> {
     }
 
     /// A numeric literal; one too large for `f64` is reported.
-    pub fn number(&mut self, text: &str, span: Span) -> Expr {
+    pub fn number(&mut self, text: &str, span: Span) -> Box<Expr<'input>> {
         let integer = text.bytes().all(|b| b.is_ascii_digit());
         let value = match text.parse::<f64>() {
             Ok(v) if v.is_finite() => v,
@@ -173,7 +194,7 @@ impl<'input> ParseContext<'input> {
 
     /// A reserved word where a name is being declared: reported, and kept as a name so the rest of
     /// the statement parses.
-    pub fn reserved_name(&mut self, word: &str, span: Span) -> Name {
+    pub fn reserved_name(&mut self, word: &'static str, span: Span) -> Name<'input> {
         self.diagnostics.push(
             Diagnostic::error(
                 "reserved-word",
@@ -183,10 +204,7 @@ impl<'input> ParseContext<'input> {
             )
             .with_help(format!("choose another name, such as `{word}_`")),
         );
-        Name {
-            text: word.to_string(),
-            span,
-        }
+        Name { text: word, span }
     }
 
     /// Records a syntax error the parser recovered from.
@@ -364,7 +382,7 @@ fn describe_expected(expected: &[String]) -> Option<String> {
 }
 
 /// Parses `source`: the statements that parsed and every diagnostic, in source order.
-pub fn parse(source: &str) -> (File, Vec<Diagnostic>) {
+pub fn parse(source: &str) -> (File<'_>, Vec<Diagnostic>) {
     if let Some(d) = size_diagnostic(source) {
         return (File::default(), vec![d]);
     }
@@ -422,4 +440,57 @@ fn size_diagnostic(source: &str) -> Option<Diagnostic> {
         start += line.len() + 1;
     }
     None
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn parser_symbols_stay_small() {
+        // Every value the grammar's actions return sits on the LR parser's stack and is moved
+        // several times; keeping the large ones boxed is what makes parsing fast (see
+        // docs/performance.md). These are the largest symbol types.
+        let sizes = [
+            ("Tok", std::mem::size_of::<Tok>()),
+            ("Name", std::mem::size_of::<Name>()),
+            (
+                "StringLit",
+                std::mem::size_of::<super::super::ast::StringLit>(),
+            ),
+            (
+                "Statement",
+                std::mem::size_of::<super::super::ast::Statement>(),
+            ),
+            (
+                "EndogenousDecl",
+                std::mem::size_of::<super::super::ast::EndogenousDecl>(),
+            ),
+        ];
+        eprintln!("{sizes:?}, Expr {}", std::mem::size_of::<Expr>());
+        for (name, size) in sizes {
+            assert!(size <= 96, "{name} is {size} bytes");
+        }
+    }
+
+    #[test]
+    fn parse_recovers_at_each_line_end() {
+        let (file, diags) =
+            parse("endogenous\n  x y\n  z\nequations\n  x = )\n  z = 1 +* 2\n  x = z\n");
+        assert_eq!(diags.len(), 3, "{diags:#?}");
+        // The good statements on either side of the bad ones survive.
+        let names: usize = file
+            .statements
+            .iter()
+            .map(|s| match s {
+                super::super::ast::Statement::Endogenous(v) => v.len(),
+                _ => 0,
+            })
+            .sum();
+        assert_eq!(names, 1);
+        assert!(file
+            .statements
+            .iter()
+            .any(|s| matches!(s, super::super::ast::Statement::Equation(_))));
+    }
 }

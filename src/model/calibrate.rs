@@ -4,7 +4,8 @@
 //! evaluated (a topological order, [`super::Model::parameter_order`]); the covariance matrix is
 //! Sigma = D R D with D = diag(sd) (sd 1 where the file gives neither `sd` nor `var`, `sd =
 //! sqrt(var)` where it gives `var`) and R the correlation matrix (ones on the diagonal, `corr`
-//! items off it), required symmetric positive semi-definite. [`super::Model::with_overrides`]
+//! items off it), required symmetric positive semi-definite; its diagonal is the variance as
+//! given (`var` exactly, `sd^2` otherwise). [`super::Model::with_overrides`]
 //! re-runs all of this with some parameters replaced by numbers.
 
 use nalgebra::DMatrix;
@@ -118,6 +119,8 @@ pub fn build_covariance(
         steady: &[],
     };
     let mut sd = vec![1.0; n];
+    // Diagonal kept as given (a `var` item exactly, not sqrt(var)^2).
+    let mut var = vec![1.0; n];
     let mut scale_item: Vec<Option<usize>> = vec![None; n];
     let mut corr = DMatrix::<f64>::identity(n, n);
     let mut corr_item: std::collections::HashMap<(usize, usize), usize> = Default::default();
@@ -144,11 +147,13 @@ pub fn build_covariance(
                         problems.push((k, CovarianceProblem::NegativeSd(v)));
                     }
                     sd[a] = v.abs();
+                    var[a] = v * v;
                 } else {
                     if v < 0.0 {
                         problems.push((k, CovarianceProblem::NegativeVar(v)));
                     }
                     sd[a] = v.abs().sqrt();
+                    var[a] = v.abs();
                 }
             }
             CovarianceKind::Corr => {
@@ -188,7 +193,11 @@ pub fn build_covariance(
     let mut sigma = DMatrix::<f64>::zeros(n, n);
     for i in 0..n {
         for j in 0..n {
-            sigma[(i, j)] = sd[i] * corr[(i, j)] * sd[j];
+            sigma[(i, j)] = if i == j {
+                var[i]
+            } else {
+                sd[i] * corr[(i, j)] * sd[j]
+            };
         }
     }
     Ok((sigma, scale_item.iter().map(Option::is_some).collect()))

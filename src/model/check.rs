@@ -22,10 +22,22 @@ use super::{
 use crate::language::ast::{self, ExprKind, Func};
 use crate::language::{self, Diagnostic, Span};
 
+// The parser refuses trees deeper than the model's limit, and lowering never adds depth.
+const _: () = assert!(language::parser::MAX_EXPR_DEPTH <= super::MAX_EXPR_DEPTH);
+
 /// Largest lead or lag accepted in a time index. Each period of lead or lag adds an auxiliary
 /// variable per variable to the solved system; a model needs a handful, and a hundred keeps a
 /// mistyped `x[t+100000]` from building a system of millions of equations.
 pub const MAX_TIME_OFFSET: i64 = 100;
+
+/// Most candidate names compared, over a whole file, when looking for did-you-mean suggestions:
+/// ample for any real model (fifty typos among ten thousand names) and a bound on the work
+/// for hostile input (many unknown names among many declared ones would otherwise be quadratic).
+pub const SUGGESTION_BUDGET: usize = 500_000;
+
+/// Most innovations a model may declare. Their covariance matrix is stored in full (n^2
+/// numbers) and checked by an eigenvalue decomposition (n^3 work); models have a few dozen.
+pub const MAX_INNOVATIONS: usize = 1000;
 
 /// Largest `options horizon` accepted (periods of impulse responses).
 pub const MAX_HORIZON: u32 = 100_000;
@@ -40,7 +52,7 @@ pub fn check_source(source: &str) -> Result<Model, Vec<Diagnostic>> {
 }
 
 /// Checks a parsed file: the checked model, or every diagnostic (sorted by position).
-pub fn check_file(file: &ast::File) -> Result<Model, Vec<Diagnostic>> {
+pub fn check_file(file: &ast::File<'_>) -> Result<Model, Vec<Diagnostic>> {
     let mut c = Checker::default();
     let model = c.run(file);
     if c.diags.iter().any(Diagnostic::is_error) {
@@ -165,13 +177,13 @@ struct Checker<'a> {
     diags: Vec<Diagnostic>,
     names: HashMap<&'a str, (Symbol, Span)>,
     title: Option<(&'a ast::StringLit, Span)>,
-    endogenous: Vec<&'a ast::EndogenousDecl>,
-    exogenous: Vec<&'a ast::ExogenousDecl>,
-    parameters: Vec<&'a ast::ParameterDecl>,
-    equations: Vec<&'a ast::EquationDecl>,
-    covariance: Vec<&'a ast::CovarianceDecl>,
-    steady: Vec<&'a ast::SteadyDecl>,
-    options: Vec<&'a ast::OptionDecl>,
+    endogenous: Vec<&'a ast::EndogenousDecl<'a>>,
+    exogenous: Vec<&'a ast::ExogenousDecl<'a>>,
+    parameters: Vec<&'a ast::ParameterDecl<'a>>,
+    equations: Vec<&'a ast::EquationDecl<'a>>,
+    covariance: Vec<&'a ast::CovarianceDecl<'a>>,
+    steady: Vec<&'a ast::SteadyDecl<'a>>,
+    options: Vec<&'a ast::OptionDecl<'a>>,
     endogenous_header: Option<Span>,
     equations_header: Option<Span>,
     /// Per endogenous variable: used in an equation at some date; largest lead; largest lag.
@@ -181,6 +193,13 @@ struct Checker<'a> {
     exo_max_lag: Vec<u32>,
     /// Valueless parameters already reported at a use.
     reported_no_value: Vec<bool>,
+    /// Every bare name used in an expression (collected on first need).
+    used_names: Option<std::collections::HashSet<&'a str>>,
+    /// Unknown names reported so far (suggestions are looked for only for the first few, since
+    /// only [`language::diagnostics::MAX_DIAGNOSTICS`] are shown).
+    unknown_reported: usize,
+    /// Candidate names compared so far when looking for suggestions.
+    suggestion_work: usize,
 }
 
 impl<'a> Checker<'a> {
@@ -188,7 +207,7 @@ impl<'a> Checker<'a> {
         self.diags.push(d);
     }
 
-    fn run(&mut self, file: &'a ast::File) -> Option<Model> {
+    fn run(&mut self, file: &'a ast::File<'a>) -> Option<Model> {
         self.collect(file);
         self.declare();
         let n_endo = self.endogenous.len();
@@ -215,7 +234,7 @@ impl<'a> Checker<'a> {
                 .iter()
                 .enumerate()
                 .map(|(i, d)| Endogenous {
-                    name: d.name.text.clone(),
+                    name: d.name.text.to_string(),
                     label: d.label.as_ref().map(|l| l.value.clone()),
                     log: d.log.is_some(),
                     max_lead: self.max_lead[i],
@@ -227,7 +246,7 @@ impl<'a> Checker<'a> {
                 .iter()
                 .enumerate()
                 .map(|(i, d)| Exogenous {
-                    name: d.name.text.clone(),
+                    name: d.name.text.to_string(),
                     label: d.label.as_ref().map(|l| l.value.clone()),
                     max_lag: self.exo_max_lag[i],
                 })
@@ -244,7 +263,7 @@ impl<'a> Checker<'a> {
     }
 
     /// Sorts the statements into their kinds, in file order.
-    fn collect(&mut self, file: &'a ast::File) {
+    fn collect(&mut self, file: &'a ast::File<'a>) {
         for st in &file.statements {
             match st {
                 ast::Statement::Title { keyword, text } => {
@@ -288,7 +307,7 @@ impl<'a> Checker<'a> {
 
     /// Enters every declared name, reporting names declared twice (both places shown).
     fn declare(&mut self) {
-        let mut decls: Vec<(&'a ast::Name, Symbol)> = Vec::new();
+        let mut decls: Vec<(&'a ast::Name<'a>, Symbol)> = Vec::new();
         decls.extend(
             self.endogenous
                 .iter()
@@ -309,7 +328,7 @@ impl<'a> Checker<'a> {
         );
         decls.sort_by_key(|(n, _)| n.span.start);
         for (name, sym) in decls {
-            if let Some(&(first_sym, first_span)) = self.names.get(name.text.as_str()) {
+            if let Some(&(first_sym, first_span)) = self.names.get(name.text) {
                 let message = if first_sym.kind() == sym.kind() {
                     format!("`{}` is declared twice", name.text)
                 } else {
@@ -326,19 +345,29 @@ impl<'a> Checker<'a> {
                         .with_help("each name is declared once; rename or remove one of them"),
                 );
             } else {
-                self.names.insert(name.text.as_str(), (sym, name.span));
+                self.names.insert(name.text, (sym, name.span));
             }
         }
     }
 
-    fn suggest(&self, name: &str, filter: impl Fn(Symbol) -> bool) -> Option<String> {
-        let found = did_you_mean(
-            name,
-            self.names
-                .iter()
-                .filter(|(_, (s, _))| filter(*s))
-                .map(|(n, _)| *n),
-        );
+    fn suggest(&mut self, name: &str, filter: impl Fn(Symbol) -> bool) -> Option<String> {
+        self.unknown_reported += 1;
+        if self.unknown_reported > language::diagnostics::MAX_DIAGNOSTICS
+            || self.suggestion_work > SUGGESTION_BUDGET
+        {
+            return None;
+        }
+        self.suggestion_work += self.names.len();
+        // Candidates in declaration order, so that ties go to the name declared first (a hash
+        // map's order would make the suggestion change from run to run).
+        let mut candidates: Vec<(&str, Span)> = self
+            .names
+            .iter()
+            .filter(|(_, (s, _))| filter(*s))
+            .map(|(n, (_, span))| (*n, *span))
+            .collect();
+        candidates.sort_by_key(|(_, span)| span.start);
+        let found = did_you_mean(name, candidates.iter().map(|(n, _)| *n));
         found.map(|s| format!("did you mean `{s}`?"))
     }
 
@@ -368,8 +397,8 @@ impl<'a> Checker<'a> {
 
     /// Classifies a time index; reports and returns `None` when it is not `t`, `t+k`, `t-k`
     /// (integer literal `k`) or `ss`.
-    fn index(&mut self, index: &ast::Expr) -> Option<Index> {
-        let offset_of = |c: &mut Self, sign: i64, k: &ast::Expr| -> Option<Index> {
+    fn index(&mut self, index: &ast::Expr<'a>) -> Option<Index> {
+        let offset_of = |c: &mut Self, sign: i64, k: &ast::Expr<'a>| -> Option<Index> {
             match &k.kind {
                 ExprKind::Number {
                     value,
@@ -454,7 +483,7 @@ impl<'a> Checker<'a> {
         &mut self,
         name: &str,
         span: Span,
-        index: Option<(&ast::Expr, Index)>,
+        index: Option<(&ast::Expr<'a>, Index)>,
         place: Place,
         refs: &mut Refs,
     ) -> Option<Expr> {
@@ -628,13 +657,13 @@ impl<'a> Checker<'a> {
     /// Lowers a syntax-tree expression to a model expression at `place`, collecting the names it
     /// depends on in `refs`. Returns `None` after reporting when any part is wrong (every wrong
     /// part is reported). Recursive; depth bounded by the parser's limit.
-    fn lower(&mut self, e: &ast::Expr, place: Place, refs: &mut Refs) -> Option<Expr> {
+    fn lower(&mut self, e: &ast::Expr<'a>, place: Place, refs: &mut Refs) -> Option<Expr> {
         match &e.kind {
             ExprKind::Number { value, .. } => Some(Expr::Number(*value)),
             ExprKind::Name(n) => self.resolve(n, e.span, None, place, refs),
             ExprKind::Indexed { name, index } => {
                 let ix = self.index(index)?;
-                self.resolve(&name.text, e.span, Some((index, ix)), place, refs)
+                self.resolve(name.text, e.span, Some((index, ix)), place, refs)
             }
             ExprKind::Time | ExprKind::SteadyMark => {
                 let word = if matches!(e.kind, ExprKind::Time) {
@@ -734,9 +763,9 @@ impl<'a> Checker<'a> {
                     name.span,
                     "not a function",
                 );
-                if let Some(f) = did_you_mean(&name.text, FUNCTIONS.iter().copied()) {
+                if let Some(f) = did_you_mean(name.text, FUNCTIONS.iter().copied()) {
                     d = d.with_help(format!("did you mean `{f}`?"));
-                } else if self.names.contains_key(name.text.as_str()) {
+                } else if self.names.contains_key(name.text) {
                     d = d.with_help(format!(
                         "`{}` is declared as a name, not a function; a product needs `*`",
                         name.text
@@ -781,7 +810,9 @@ impl<'a> Checker<'a> {
             exprs.push(e);
             deps.push(refs.parameters);
         }
-        let order = self.order("parameter", &deps, |c, i| c.parameters[i].name.text.clone());
+        let order = self.order("parameter", &deps, |c, i| {
+            c.parameters[i].name.text.to_string()
+        });
         let mut values = vec![f64::NAN; n];
         let mut computable = vec![false; n];
         for &i in &order {
@@ -826,7 +857,7 @@ impl<'a> Checker<'a> {
             .map(|i| {
                 let d = self.parameters[i];
                 Parameter {
-                    name: d.name.text.clone(),
+                    name: d.name.text.to_string(),
                     label: d.label.as_ref().map(|l| l.value.clone()),
                     expr: exprs[i].clone().unwrap_or(Expr::Number(f64::NAN)),
                     value: values[i],
@@ -836,37 +867,44 @@ impl<'a> Checker<'a> {
         (params, order)
     }
 
-    fn parameter_used_anywhere(&self, i: usize) -> bool {
-        let name = self.parameters[i].name.text.as_str();
-        let mut used = false;
-        let mut look = |e: &ast::Expr| {
-            e.walk(&mut |x| {
-                if let ExprKind::Name(n) = &x.kind {
-                    used |= n == name;
+    /// Whether parameter `i`'s name occurs as a bare name in any expression of the file. The set
+    /// of such names is collected once (so a file with many valueless parameters stays linear).
+    fn parameter_used_anywhere(&mut self, i: usize) -> bool {
+        if self.used_names.is_none() {
+            let mut set: std::collections::HashSet<&'a str> = Default::default();
+            let mut look = |e: &'a ast::Expr<'a>| {
+                e.walk(&mut |x| {
+                    if let ExprKind::Name(n) = &x.kind {
+                        set.insert(*n);
+                    }
+                })
+            };
+            for p in &self.parameters {
+                if let Some(v) = &p.value {
+                    look(v);
                 }
-            })
-        };
-        for p in &self.parameters {
-            if let Some(v) = &p.value {
-                look(v);
             }
-        }
-        for q in &self.equations {
-            look(&q.lhs);
-            if let Some(r) = &q.rhs {
-                look(r);
+            for q in &self.equations {
+                look(&q.lhs);
+                if let Some(r) = &q.rhs {
+                    look(r);
+                }
             }
+            for c in &self.covariance {
+                look(&c.value);
+            }
+            for st in &self.steady {
+                look(&st.value);
+            }
+            for o in &self.options {
+                look(&o.value);
+            }
+            self.used_names = Some(set);
         }
-        for c in &self.covariance {
-            look(&c.value);
-        }
-        for s in &self.steady {
-            look(&s.value);
-        }
-        for o in &self.options {
-            look(&o.value);
-        }
-        used
+        let name = self.parameters[i].name.text;
+        self.used_names
+            .as_ref()
+            .is_some_and(|set| set.contains(name))
     }
 
     /// A topological order of nodes `0..deps.len()` (each after the nodes it depends on), found
@@ -882,11 +920,14 @@ impl<'a> Checker<'a> {
         let mut state = vec![0u8; n]; // 0 new, 1 on the stack, 2 done
         let mut in_reported_cycle = vec![false; n];
         let mut order = Vec::with_capacity(n);
+        // Position of each node on the stack while it is there (keeps cycle extraction O(cycle)).
+        let mut depth_of = vec![0usize; n];
         for root in 0..n {
             if state[root] != 0 {
                 continue;
             }
             state[root] = 1;
+            depth_of[root] = 0;
             let mut stack: Vec<(usize, usize)> = vec![(root, 0)];
             while let Some(&mut (v, ref mut next)) = stack.last_mut() {
                 if *next < deps[v].len() {
@@ -895,10 +936,11 @@ impl<'a> Checker<'a> {
                     match state[w] {
                         0 => {
                             state[w] = 1;
+                            depth_of[w] = stack.len();
                             stack.push((w, 0));
                         }
                         1 if !in_reported_cycle[w] => {
-                            let pos = stack.iter().position(|(x, _)| *x == w).unwrap_or(0);
+                            let pos = depth_of[w].min(stack.len() - 1);
                             let cycle: Vec<usize> = stack[pos..].iter().map(|(x, _)| *x).collect();
                             for &c in &cycle {
                                 in_reported_cycle[c] = true;
@@ -924,12 +966,17 @@ impl<'a> Checker<'a> {
         deps: &[Vec<(usize, Span)>],
         name: &impl Fn(&Self, usize) -> String,
     ) {
-        let names: Vec<String> = cycle.iter().map(|&i| name(self, i)).collect();
+        // Long cycles are shown by their first links only.
+        const SHOWN: usize = 12;
+        let names: Vec<String> = cycle.iter().take(SHOWN).map(|&i| name(self, i)).collect();
         let mut path = names.join(" -> ");
+        if cycle.len() > SHOWN {
+            path.push_str(&format!(" -> ... ({} in the cycle)", cycle.len()));
+        }
         path.push_str(&format!(" -> {}", names[0]));
         // The reference closing each edge u -> v of the cycle.
         let mut labels = Vec::new();
-        for (k, &u) in cycle.iter().enumerate() {
+        for (k, &u) in cycle.iter().enumerate().take(SHOWN) {
             let v = cycle[(k + 1) % cycle.len()];
             if let Some((_, span)) = deps[u].iter().find(|(w, _)| *w == v) {
                 labels.push((*span, format!("`{}` uses `{}`", names[k], name(self, v))));
@@ -957,14 +1004,18 @@ impl<'a> Checker<'a> {
             parameters: self
                 .parameters
                 .iter()
-                .map(|p| p.name.text.clone())
+                .map(|p| p.name.text.to_string())
                 .collect(),
             endogenous: self
                 .endogenous
                 .iter()
-                .map(|p| p.name.text.clone())
+                .map(|p| p.name.text.to_string())
                 .collect(),
-            exogenous: self.exogenous.iter().map(|p| p.name.text.clone()).collect(),
+            exogenous: self
+                .exogenous
+                .iter()
+                .map(|p| p.name.text.to_string())
+                .collect(),
         }
     }
 
@@ -980,7 +1031,7 @@ impl<'a> Checker<'a> {
             };
             if let (Some(lhs), Some(rhs)) = (lhs, rhs) {
                 out.push(Equation {
-                    label: q.label.as_ref().map(|l| l.text.clone()),
+                    label: q.label.as_ref().map(|l| l.text.to_string()),
                     lhs,
                     rhs,
                 });
@@ -990,7 +1041,7 @@ impl<'a> Checker<'a> {
         let mut seen: HashMap<&str, Span> = HashMap::new();
         for q in &self.equations {
             if let Some(l) = &q.label {
-                if let Some(first) = seen.get(l.text.as_str()) {
+                if let Some(first) = seen.get(l.text) {
                     let d = Diagnostic::error(
                         "duplicate",
                         format!("equation label `{}` is used twice", l.text),
@@ -1001,7 +1052,7 @@ impl<'a> Checker<'a> {
                     .with_help("each equation label names one equation");
                     self.diags.push(d);
                 } else {
-                    seen.insert(l.text.as_str(), l.span);
+                    seen.insert(l.text, l.span);
                 }
             }
         }
@@ -1040,7 +1091,7 @@ impl<'a> Checker<'a> {
             let vars = list(
                 self.endogenous
                     .iter()
-                    .map(|d| d.name.text.clone())
+                    .map(|d| d.name.text.to_string())
                     .collect(),
             );
             let eqs = list(
@@ -1048,7 +1099,7 @@ impl<'a> Checker<'a> {
                     .iter()
                     .enumerate()
                     .map(|(i, q)| match &q.label {
-                        Some(l) => l.text.clone(),
+                        Some(l) => l.text.to_string(),
                         None => format!("#{}", i + 1),
                     })
                     .collect(),
@@ -1093,8 +1144,8 @@ impl<'a> Checker<'a> {
         }
     }
 
-    fn shock(&mut self, name: &ast::Name) -> Option<usize> {
-        match self.names.get(name.text.as_str()).copied() {
+    fn shock(&mut self, name: &ast::Name<'a>) -> Option<usize> {
+        match self.names.get(name.text).copied() {
             Some((Symbol::Exogenous(i), _)) => Some(i),
             Some((sym, decl)) => {
                 self.error(
@@ -1115,7 +1166,7 @@ impl<'a> Checker<'a> {
                     name.span,
                     "not declared",
                 );
-                if let Some(h) = self.suggest(&name.text, |s| matches!(s, Symbol::Exogenous(_))) {
+                if let Some(h) = self.suggest(name.text, |s| matches!(s, Symbol::Exogenous(_))) {
                     d = d.with_help(h);
                 } else {
                     d = d.with_help("declare it in the exogenous section");
@@ -1131,6 +1182,19 @@ impl<'a> Checker<'a> {
         parameters: &[Parameter],
     ) -> (Vec<CovarianceItem>, nalgebra::DMatrix<f64>, Vec<bool>) {
         let n = self.exogenous.len();
+        if n > MAX_INNOVATIONS {
+            let d = self.exogenous[MAX_INNOVATIONS];
+            self.error(
+                Diagnostic::error(
+                    "too-many-innovations",
+                    format!("the model declares {n} innovations; the limit is {MAX_INNOVATIONS}"),
+                    d.name.span,
+                    "one too many",
+                )
+                .with_help("the covariance matrix of the innovations is stored in full"),
+            );
+            return (Vec::new(), nalgebra::DMatrix::zeros(0, 0), Vec::new());
+        }
         let mut items = Vec::new();
         let mut spans = Vec::new();
         let mut ok = true;
@@ -1210,14 +1274,14 @@ impl<'a> Checker<'a> {
         let n_endo = self.endogenous.len();
         let mut items: Vec<SteadyItem> = Vec::new();
         let mut item_refs: Vec<Vec<(usize, Span)>> = Vec::new();
-        let mut item_decl: Vec<&ast::SteadyDecl> = Vec::new();
+        let mut item_decl: Vec<&ast::SteadyDecl<'a>> = Vec::new();
         let mut known_at: Vec<Option<usize>> = vec![None; n_endo];
         let mut guess_at: Vec<Option<usize>> = vec![None; n_endo];
         for k in 0..self.steady.len() {
             let s = self.steady[k];
             let mut refs = Refs::default();
             let e = self.lower(&s.value, Place::Steady, &mut refs);
-            let var = match self.names.get(s.name.text.as_str()).copied() {
+            let var = match self.names.get(s.name.text).copied() {
                 Some((Symbol::Endogenous(i), _)) => Some(i),
                 Some((sym, decl)) => {
                     self.error(
@@ -1243,7 +1307,7 @@ impl<'a> Checker<'a> {
                         "not declared",
                     );
                     if let Some(h) =
-                        self.suggest(&s.name.text, |s| matches!(s, Symbol::Endogenous(_)))
+                        self.suggest(s.name.text, |s| matches!(s, Symbol::Endogenous(_)))
                     {
                         d = d.with_help(h);
                     }
@@ -1321,7 +1385,7 @@ impl<'a> Checker<'a> {
                     Some(j) => deps[k].push((j, span)),
                     None => {
                         ok = false;
-                        let name = self.endogenous[v].name.text.clone();
+                        let name = self.endogenous[v].name.text.to_string();
                         self.error(
                             Diagnostic::error(
                                 "steady-unknown",
@@ -1339,7 +1403,7 @@ impl<'a> Checker<'a> {
             }
         }
         let order = self.order("steady-state", &deps, |c, k| {
-            c.endogenous[items_var(&items, k)].name.text.clone()
+            c.endogenous[items_var(&items, k)].name.text.to_string()
         });
         let values: Vec<f64> = parameters.iter().map(|p| p.value).collect();
         if !ok || !values.iter().all(|v| v.is_finite()) {
@@ -1358,9 +1422,37 @@ impl<'a> Checker<'a> {
             {
                 continue;
             }
-            if v.is_finite() {
+            let var = items[k].variable;
+            if v.is_finite() && v <= 0.0 && self.endogenous[var].log.is_some() {
+                let decl = item_decl[k];
+                self.error(
+                    Diagnostic::error(
+                        "log-not-positive",
+                        format!(
+                            "`{}` is a log variable, but its steady {} is {}",
+                            decl.name.text,
+                            if items[k].kind == SteadyKind::Guess {
+                                "guess"
+                            } else {
+                                "value"
+                            },
+                            number_or_word(v)
+                        ),
+                        decl.value.span,
+                        "not positive",
+                    )
+                    .with_label(
+                        self.endogenous[var].log.unwrap_or_default(),
+                        "declared `log` here",
+                    )
+                    .with_help(
+                        "a variable linearized in logs needs a positive steady state; drop `log` \
+                         or fix the value",
+                    ),
+                );
+            } else if v.is_finite() {
                 if items[k].kind == SteadyKind::Known {
-                    steady[items[k].variable] = v;
+                    steady[var] = v;
                 }
             } else {
                 let names = self.names_for_print();
@@ -1398,7 +1490,7 @@ impl<'a> Checker<'a> {
         let params_ok = values.iter().all(|v| v.is_finite());
         for k in 0..self.options.len() {
             let o = self.options[k];
-            let name = o.name.text.as_str();
+            let name = o.name.text;
             const OPTIONS: [&str; 3] = ["discount", "threshold", "horizon"];
             if !OPTIONS.contains(&name) {
                 let mut d = Diagnostic::error(

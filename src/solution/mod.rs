@@ -98,3 +98,15 @@ pub struct SolvedModel {
     /// `Some` exactly when `status` is `Determinate`.
     pub solution: Option<StateSpace>,
 }
+
+pub mod check;
+mod diagnosis;
+pub mod solve;
+
+pub use diagnosis::describe_root;
+pub use solve::{
+    solve, PreparedModel, SolveDetails, SolveError, SolveOptions, ThresholdSetting, Timings,
+};
+
+#[cfg(test)]
+mod tests;

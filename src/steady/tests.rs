@@ -1,0 +1,304 @@
+use super::*;
+use crate::model::SteadyItem;
+use crate::symbolic::testing::*;
+
+fn growth_model() -> Model {
+    // Brock and Mirman 1972 (JET 4), log utility, Cobb-Douglas, full depreciation:
+    //   1/c = beta * alpha * exp(z[t+1]) * k^(alpha-1) / c[t+1]
+    //   c + k = exp(z) * k[t-1]^alpha
+    //   z = rho * z[t-1] + e
+    // k, c in logs; z in levels.
+    let (alpha, beta) = (p(0), p(1));
+    model(
+        &[("k", true), ("c", true), ("z", false)],
+        &["e"],
+        &[("alpha", 0.33), ("beta", 0.96), ("rho", 0.9)],
+        vec![
+            (
+                div(n(1.0), v(1, 0)),
+                div(
+                    mul(
+                        mul(
+                            mul(beta.clone(), alpha.clone()),
+                            Expr::Call(crate::model::Function::Exp, Box::new(v(2, 1))),
+                        ),
+                        pow(v(0, 0), sub(alpha.clone(), n(1.0))),
+                    ),
+                    v(1, 1),
+                ),
+            ),
+            (
+                add(v(1, 0), v(0, 0)),
+                mul(
+                    Expr::Call(crate::model::Function::Exp, Box::new(v(2, 0))),
+                    pow(v(0, -1), alpha),
+                ),
+            ),
+            (v(2, 0), add(mul(p(2), v(2, -1)), e(0, 0))),
+        ],
+        vec![],
+    )
+}
+
+#[test]
+fn growth_model_steady_state_matches_closed_form() {
+    // Brock and Mirman 1972: k = (alpha*beta)^(1/(1-alpha)), c = k^alpha - k.
+    let m = growth_model();
+    let c = CompiledModel::new(&m);
+    assert!(!c.is_linear);
+    let params: Vec<f64> = m.parameters.iter().map(|p| p.value).collect();
+    let ss = solve_steady(&m, &c, &params).unwrap();
+    let k = (0.33f64 * 0.96).powf(1.0 / (1.0 - 0.33));
+    assert!((ss.values[0] - k).abs() < 1e-12 * k, "{:?}", ss);
+    assert!((ss.values[1] - (k.powf(0.33) - k)).abs() < 1e-12);
+    assert!(ss.values[2].abs() < 1e-14);
+    assert!(ss.iterations > 0 && ss.iterations < 30);
+}
+
+#[test]
+fn linear_model_takes_one_newton_step() {
+    // x = 0.5 x[t-1] + 2  =>  x = 4;  y = x + 1 => y = 5.
+    let m = model(
+        &[("x", false), ("y", false)],
+        &[],
+        &[],
+        vec![
+            (v(0, 0), add(mul(n(0.5), v(0, -1)), n(2.0))),
+            (v(1, 0), add(v(0, 0), n(1.0))),
+        ],
+        vec![],
+    );
+    let c = CompiledModel::new(&m);
+    assert!(c.is_linear);
+    let ss = solve_steady(&m, &c, &[]).unwrap();
+    assert_eq!(ss.iterations, 1);
+    assert!((ss.values[0] - 4.0).abs() < 1e-14 && (ss.values[1] - 5.0).abs() < 1e-14);
+}
+
+#[test]
+fn known_values_are_checked_and_failures_named() {
+    let mut m = model(
+        &[("x", false), ("y", false)],
+        &[],
+        &[("a", 2.0)],
+        vec![(v(0, 0), p(0)), (v(1, 0), mul(n(3.0), v(0, 0)))],
+        vec![],
+    );
+    m.equations[1].label = Some("triple".into());
+    m.steady = vec![
+        SteadyItem {
+            kind: SteadyKind::Known,
+            variable: 0,
+            expr: p(0),
+        },
+        SteadyItem {
+            kind: SteadyKind::Known,
+            variable: 1,
+            expr: add(Expr::SteadyState(0), n(1.0)),
+        },
+    ];
+    let c = CompiledModel::new(&m);
+    let err = solve_steady(&m, &c, &[2.0]).unwrap_err();
+    let msg = err.to_string();
+    assert!(
+        matches!(err, SteadyError::KnownValuesInconsistent(_)),
+        "{msg}"
+    );
+    assert!(
+        msg.contains("triple") && !msg.contains("equation 1 "),
+        "{msg}"
+    );
+    // With the right value (depending on x's, listed after it: order-free), it passes.
+    m.steady[1].expr = mul(n(3.0), Expr::SteadyState(0));
+    m.steady.swap(0, 1);
+    let ss = solve_steady(&m, &c, &[2.0]).unwrap();
+    assert_eq!(ss.values, vec![2.0, 6.0]);
+    assert_eq!(ss.iterations, 0);
+}
+
+#[test]
+fn domain_error_at_the_guess_is_named() {
+    // ln(x) = 0 with x in levels and a negative guess.
+    let mut m = model(
+        &[("x", false)],
+        &[],
+        &[],
+        vec![(ln(v(0, 0)), n(0.0))],
+        vec![],
+    );
+    m.steady = vec![SteadyItem {
+        kind: SteadyKind::Guess,
+        variable: 0,
+        expr: n(-2.0),
+    }];
+    let c = CompiledModel::new(&m);
+    let err = solve_steady(&m, &c, &[]).unwrap_err();
+    let msg = err.to_string();
+    assert!(msg.contains("ln of -2") && msg.contains("x = -2"), "{msg}");
+}
+
+#[test]
+fn singular_jacobian_is_reported_with_the_variables() {
+    // x + y = 1 and 2x + 2y = 2: a line of steady states.
+    let m = model(
+        &[("x", false), ("y", false), ("w", false)],
+        &[],
+        &[],
+        vec![
+            (add(v(0, 0), v(1, 0)), n(1.0)),
+            (mul(n(2.0), add(v(0, 0), v(1, 0))), n(2.0)),
+            (v(2, 0), n(3.0)),
+        ],
+        vec![],
+    );
+    let c = CompiledModel::new(&m);
+    let err = solve_steady(&m, &c, &[]).unwrap_err();
+    let msg = err.to_string();
+    assert!(matches!(err, SteadyError::Singular(_)), "{msg}");
+    assert!(
+        msg.contains("pin down x, y") || msg.contains("pin down y, x"),
+        "{msg}"
+    );
+}
+
+#[test]
+fn no_solution_reports_residuals_iterations_and_hint() {
+    // x^2 + 1 = 0 has no real solution.
+    let mut m = model(
+        &[("x", false)],
+        &[],
+        &[],
+        vec![(add(pow(v(0, 0), n(2.0)), n(1.0)), n(0.0))],
+        vec![],
+    );
+    m.steady = vec![SteadyItem {
+        kind: SteadyKind::Guess,
+        variable: 0,
+        expr: n(1.0),
+    }];
+    let c = CompiledModel::new(&m);
+    let err = solve_steady(&m, &c, &[]).unwrap_err();
+    let msg = err.to_string();
+    assert!(
+        msg.contains("equation 1") && msg.contains("involves x"),
+        "{msg}"
+    );
+    assert!(msg.contains("guess"), "{msg}");
+}
+
+#[test]
+fn log_variables_need_positive_values() {
+    let mut m = model(&[("k", true)], &[], &[], vec![(v(0, 0), n(2.0))], vec![]);
+    m.steady = vec![SteadyItem {
+        kind: SteadyKind::Guess,
+        variable: 0,
+        expr: n(-1.0),
+    }];
+    let c = CompiledModel::new(&m);
+    let msg = solve_steady(&m, &c, &[]).unwrap_err().to_string();
+    assert!(msg.contains("positive"), "{msg}");
+    m.steady.clear();
+    assert!((solve_steady(&m, &c, &[]).unwrap().values[0] - 2.0).abs() < 1e-13);
+}
+
+#[test]
+fn compiled_jacobians_match_central_differences_on_a_whole_model() {
+    // Every coefficient dr_i/dy_{j,t+k} and dr_i/de (tapes) against central differences of the
+    // tree-evaluated residual with one date perturbed (common practice check).
+    use crate::model::Leaves;
+    use crate::symbolic::Leaf;
+    let m = growth_model();
+    let c = CompiledModel::new(&m);
+    let params: Vec<f64> = m.parameters.iter().map(|p| p.value).collect();
+    let x = [0.7, 0.4, 0.05];
+    struct At<'a> {
+        params: &'a [f64],
+        x: &'a [f64],
+        bump: Option<(Leaf, f64)>,
+    }
+    impl Leaves for At<'_> {
+        fn parameter(&self, i: usize) -> f64 {
+            self.params[i]
+        }
+        fn variable(&self, i: usize, o: i32) -> f64 {
+            let b = match self.bump {
+                Some((Leaf::Variable { index, offset }, h)) if index == i && offset == o => h,
+                _ => 0.0,
+            };
+            self.x[i] + b
+        }
+        fn innovation(&self, i: usize, o: i32) -> f64 {
+            match self.bump {
+                Some((Leaf::Innovation { index, offset }, h)) if index == i && offset == o => h,
+                _ => 0.0,
+            }
+        }
+        fn steady_state(&self, i: usize) -> f64 {
+            self.x[i]
+        }
+    }
+    let mut vals = vec![0.0; c.coefficient_pattern.len()];
+    c.coefficients.eval(&params, &x, &mut Vec::new(), &mut vals);
+    let h = 1e-6;
+    for (coef, &v) in c.coefficient_pattern.iter().zip(&vals) {
+        let eq = &m.equations[coef.equation];
+        let r = |step: f64| {
+            let at = At {
+                params: &params,
+                x: &x,
+                bump: Some((coef.leaf, step)),
+            };
+            eq.lhs.eval(&at) - eq.rhs.eval(&at)
+        };
+        let fd = (r(h) - r(-h)) / (2.0 * h);
+        assert!(
+            (v - fd).abs() < 1e-7 * (1.0 + fd.abs()),
+            "{coef:?}: {v} vs {fd}"
+        );
+    }
+    // The steady-state Jacobian sums the dates.
+    let mut jv = vec![0.0; c.jacobian_pattern.len()];
+    c.steady_jacobian
+        .eval(&params, &x, &mut Vec::new(), &mut jv);
+    for (&(i, j), &v) in c.jacobian_pattern.iter().zip(&jv) {
+        let r = |step: f64| {
+            let mut y = x;
+            y[j] += step;
+            let mut out = vec![0.0; 3];
+            c.residuals.eval(&params, &y, &mut Vec::new(), &mut out);
+            out[i]
+        };
+        let fd = (r(h) - r(-h)) / (2.0 * h);
+        assert!(
+            (v - fd).abs() < 1e-7 * (1.0 + fd.abs()),
+            "({i},{j}): {v} vs {fd}"
+        );
+    }
+}
+
+#[test]
+fn inconsistent_partial_values_are_blamed_on_the_values() {
+    // x = 2 and y = 3 x with the value y = 5 given: no x satisfies both equations.
+    let mut m = model(
+        &[("x", false), ("y", false)],
+        &[],
+        &[],
+        vec![(v(0, 0), n(2.0)), (v(1, 0), mul(n(3.0), v(0, 0)))],
+        vec![],
+    );
+    m.steady = vec![SteadyItem {
+        kind: SteadyKind::Known,
+        variable: 1,
+        expr: n(5.0),
+    }];
+    let c = CompiledModel::new(&m);
+    let err = solve_steady(&m, &c, &[]).unwrap_err();
+    assert!(
+        matches!(err, SteadyError::KnownValuesInconsistent(_)),
+        "{err}"
+    );
+    // Consistent partial values: the rest is solved.
+    m.steady[0].expr = n(6.0);
+    let ss = solve_steady(&m, &c, &[]).unwrap();
+    assert!((ss.values[0] - 2.0).abs() < 1e-12);
+}
