@@ -5,21 +5,17 @@ use std::time::Instant;
 
 use super::args::{Format, ImpulseSize as SizeArg, IrfArgs};
 use super::config::SolveSettings;
-use super::output::{emit, eprintln_quiet};
+use super::output::{emit, eprintln_quiet, write_atomic};
 use super::solve::{load_and_solve, outcome, print_timings};
 use super::{Failure, Outcome};
 use saddle::analysis::irf::{impulse_responses, ImpulseSize};
+use saddle::output::svg::charts;
 use saddle::output::{irf as render, solve as render_solve};
 
 /// Default horizon when neither `--horizon` nor the file's options give one (cli.md).
 pub const DEFAULT_HORIZON: u32 = 40;
 
 pub fn run(args: IrfArgs) -> Result<Outcome, Failure> {
-    if args.plot.is_some() {
-        return Err(Failure::usage(
-            "--plot: plotting is not available yet in this build; use --format csv and a plotting tool",
-        ));
-    }
     let settings = SolveSettings::from_args(&args.solve)?;
     let s = load_and_solve(&args.file, &settings)?;
     let names = s.model.shock_names();
@@ -72,13 +68,21 @@ pub fn run(args: IrfArgs) -> Result<Outcome, Failure> {
                 args.out.output.as_deref(),
                 render_solve::json(&s.solved).as_bytes(),
             )?,
-            Format::Csv => eprintln_quiet(&format!(
-                "no impulse responses: {}",
+            Format::Csv => {}
+        }
+        if args.format == Format::Csv || args.plot.is_some() {
+            eprintln_quiet(&format!(
+                "no impulse responses{}: {}",
+                if args.plot.is_some() {
+                    " and no plot"
+                } else {
+                    ""
+                },
                 s.solved
                     .diagnosis
                     .as_deref()
                     .unwrap_or("no unique stable solution")
-            )),
+            ));
         }
         if settings.timings {
             print_timings(&s, t0.elapsed());
@@ -93,6 +97,18 @@ pub fn run(args: IrfArgs) -> Result<Outcome, Failure> {
         Format::Csv => render::csv(&r),
     };
     emit(args.out.output.as_deref(), text.as_bytes())?;
+    if let Some(path) = &args.plot {
+        let grids = charts::impulse_response_grids(
+            &r.shocks,
+            &charts::shock_labels(&s.model, &r.shocks),
+            &r.variables,
+            &charts::variable_subtitles(&s.model, &r.variables, true),
+            &r.responses,
+            r.size.as_str(),
+        );
+        let svg = charts::impulse_response_chart(&grids, &args.file.display().to_string());
+        write_atomic(path, svg.as_bytes())?;
+    }
     for w in &s.solved.warnings {
         if args.format == Format::Text {
             eprintln_quiet(&format!("warning: {w}"));

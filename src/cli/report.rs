@@ -1,11 +1,124 @@
-//! `saddle report` (not built yet: this runner is replaced by the issue that builds the command).
+//! `saddle report FILE -o PATH.html`: one self-contained HTML page with the model summary,
+//! calibration, steady state, roots and diagnosis, solution equations, impulse-response charts,
+//! moments and variance decompositions (cli.md). The page is written atomically. A model without a
+//! unique stable solution still gets its page (roots and diagnosis) and exit status 3.
 
 use super::args::ReportArgs;
+use super::config::{SolveSettings, ThresholdChoice};
+use super::output::write_atomic;
+use super::solve::{load_and_solve, outcome};
 use super::{Failure, Outcome};
+use saddle::analysis::irf::{impulse_responses, ImpulseSize};
+use saddle::model::print::{equation_text, expr_text, Names};
+use saddle::output::report::{render, IrfView, ReportInput};
 
-pub fn run(_args: ReportArgs) -> Result<Outcome, Failure> {
-    Err(Failure::new(
-        Outcome::NumericalFailure,
-        "`saddle report` is not built yet",
-    ))
+/// Impulse-response horizon when neither `--horizon` nor the file's options give one (cli.md).
+const DEFAULT_HORIZON: u32 = 40;
+
+pub fn run(args: ReportArgs) -> Result<Outcome, Failure> {
+    let settings = SolveSettings::from_args(&args.solve)?;
+    let s = load_and_solve(&args.file, &settings)?;
+    let (model, solved) = (&s.model, &s.solved);
+    let horizon = args
+        .horizon
+        .or(model.options.horizon)
+        .unwrap_or(DEFAULT_HORIZON) as usize;
+
+    let (irf, irf_error) = if solved.solution.is_some() {
+        match impulse_responses(solved, &[], ImpulseSize::OneSd, horizon) {
+            Ok(r) => (Some(r), None),
+            Err(e) => (None, Some(e.to_string())),
+        }
+    } else {
+        (None, None)
+    };
+    // Moments come from the analysis branch's `analysis::moments`, not merged into this build
+    // yet: the page says so in its moments section.
+    let moments_error = solved
+        .solution
+        .is_some()
+        .then(|| "moments are not available in this build yet".to_string());
+
+    let names = Names::of(model);
+    let equations = (0..model.equations.len())
+        .map(|i| {
+            let text = equation_text(model, i);
+            match model.equations[i].label.as_deref() {
+                Some(l) => format!("{l}: {text}"),
+                None => text,
+            }
+        })
+        .collect();
+    let definitions = model
+        .parameters
+        .iter()
+        .map(|p| match p.expr {
+            saddle::model::Expr::Number(_) => None,
+            ref e => Some(expr_text(e, &names)),
+        })
+        .collect();
+    let threshold = match settings.threshold {
+        ThresholdChoice::FromFile => format!(
+            "{} (from the model file, or the default 1)",
+            solved.threshold
+        ),
+        ThresholdChoice::Discount(b) => {
+            format!("{} (1/sqrt({b}) from --discount)", solved.threshold)
+        }
+        ThresholdChoice::Explicit(x) => format!("{x} (from --threshold)"),
+    };
+    let mut run_settings = vec![
+        ("stable-root threshold".to_string(), threshold),
+        (
+            "roots on the threshold".to_string(),
+            if settings.boundary_stable {
+                "count as stable"
+            } else {
+                "count as unstable"
+            }
+            .to_string(),
+        ),
+        (
+            "impulse size".to_string(),
+            "one standard deviation of each innovation".to_string(),
+        ),
+        (
+            "impulse-response horizon".to_string(),
+            format!("{horizon} periods"),
+        ),
+    ];
+    if !settings.overrides.is_empty() {
+        run_settings.push((
+            "command-line overrides".to_string(),
+            settings
+                .overrides
+                .iter()
+                .map(|(n, v)| format!("{n} = {v}"))
+                .collect::<Vec<_>>()
+                .join(", "),
+        ));
+    }
+    let source = args.file.display().to_string();
+    let html = render(&ReportInput {
+        source: &source,
+        model,
+        solved,
+        equations,
+        definitions,
+        overrides: settings.overrides.iter().map(|(n, _)| n.clone()).collect(),
+        settings: run_settings,
+        irf: irf.as_ref().map(|r| IrfView {
+            size: r.size.as_str(),
+            horizon: r.horizon,
+            shocks: &r.shocks,
+            variables: &r.variables,
+            responses: &r.responses,
+        }),
+        moments: None,
+        irf_error,
+        moments_error,
+        version: env!("CARGO_PKG_VERSION"),
+    });
+    write_atomic(&args.output, html.as_bytes())?;
+    Ok(outcome(solved))
 }
