@@ -72,17 +72,8 @@ fn bad_options_exit_2() {
     for args in [
         vec!["moments", "MODEL", "--horizons", "0"],
         vec!["moments", "MODEL", "--lags", "100000"],
-        vec!["simulate", "MODEL", "--plot", "x.svg"],
         vec!["sweep", "MODEL", "--vary", "nope=0:1:3"],
         vec!["sweep", "MODEL", "--vary", "phi_pi=0:1"],
-        vec![
-            "sweep",
-            "MODEL",
-            "--vary",
-            "phi_pi=0:1:3",
-            "--plot",
-            "x.svg",
-        ],
         vec!["simulate", "MODEL", "--periods", "100000000000"],
     ] {
         let h = harbour();
@@ -175,4 +166,48 @@ fn sweep_points_that_fail_become_error_rows() {
     assert!(rows[0].starts_with("0,error,,,,"), "{}", rows[0]);
     assert!(rows[0].len() > "0,error,,,,".len());
     assert!(rows[2].starts_with("0.5,determinate") || rows[2].starts_with("0.5,indeterminate"));
+}
+
+#[test]
+fn simulate_and_sweep_plots_are_written_as_svg() {
+    let dir = tempfile::tempdir().unwrap();
+    let sim = dir.path().join("paths.svg");
+    let map = dir.path().join("map.svg");
+    let h = harbour();
+    let out = saddle(&[
+        "simulate",
+        &h,
+        "--periods",
+        "50",
+        "--plot",
+        sim.to_str().unwrap(),
+    ]);
+    assert_eq!(
+        out.status.code(),
+        Some(0),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    let svg = std::fs::read_to_string(&sim).unwrap();
+    assert!(svg.starts_with("<svg") && svg.trim_end().ends_with("</svg>"));
+    // One panel per declared variable, each titled by its name.
+    for v in ["gap", "infl", "rate", "drift"] {
+        assert!(svg.contains(&format!(">{v}<")), "panel {v} missing");
+    }
+    let out = saddle(&[
+        "sweep",
+        &h,
+        "--vary",
+        "phi_pi=0:3:31",
+        "--plot",
+        map.to_str().unwrap(),
+    ]);
+    assert_eq!(
+        out.status.code(),
+        Some(0),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    let svg = std::fs::read_to_string(&map).unwrap();
+    assert!(svg.contains("determinate") && svg.contains("indeterminate"));
 }

@@ -119,7 +119,12 @@ fn bad_command_lines_exit_2_with_clear_messages() {
     // --plot writes the SVG chart beside the normal output (wired by the visual branch).
     let dir = tempfile::tempdir().unwrap();
     let plot = dir.path().join("x.svg");
-    let o = saddle(&["irf", "models/harbour.saddle", "--plot", plot.to_str().unwrap()]);
+    let o = saddle(&[
+        "irf",
+        "models/harbour.saddle",
+        "--plot",
+        plot.to_str().unwrap(),
+    ]);
     assert_eq!(code(&o), 0, "{}", text(&o.stderr));
     assert!(std::fs::read_to_string(&plot).unwrap().starts_with("<svg"));
 }

@@ -9,11 +9,17 @@ use super::output::write_atomic;
 use super::solve::{load_and_solve, outcome};
 use super::{Failure, Outcome};
 use saddle::analysis::irf::{impulse_responses, ImpulseSize};
+use saddle::analysis::moments::moments;
 use saddle::model::print::{equation_text, expr_text, Names};
-use saddle::output::report::{render, IrfView, ReportInput};
+use saddle::output::report::{render, IrfView, MomentsView, ReportInput};
 
 /// Impulse-response horizon when neither `--horizon` nor the file's options give one (cli.md).
 const DEFAULT_HORIZON: u32 = 40;
+/// Autocorrelation lags shown in the report (the `moments` command's default).
+const REPORT_LAGS: usize = 5;
+/// Forecast-error variance decomposition horizons shown in the report: a quarter, a year, two
+/// years and ten years for quarterly models (common practice in policy briefings).
+const REPORT_HORIZONS: [usize; 4] = [1, 4, 8, 40];
 
 pub fn run(args: ReportArgs) -> Result<Outcome, Failure> {
     let settings = SolveSettings::from_args(&args.solve)?;
@@ -32,12 +38,14 @@ pub fn run(args: ReportArgs) -> Result<Outcome, Failure> {
     } else {
         (None, None)
     };
-    // Moments come from the analysis branch's `analysis::moments`, not merged into this build
-    // yet: the page says so in its moments section.
-    let moments_error = solved
-        .solution
-        .is_some()
-        .then(|| "moments are not available in this build yet".to_string());
+    let (mom, moments_error) = if solved.solution.is_some() {
+        match moments(solved, REPORT_LAGS, &REPORT_HORIZONS) {
+            Ok(m) => (Some(m), None),
+            Err(e) => (None, Some(e.to_string())),
+        }
+    } else {
+        (None, None)
+    };
 
     let names = Names::of(model);
     let equations = (0..model.equations.len())
@@ -114,7 +122,17 @@ pub fn run(args: ReportArgs) -> Result<Outcome, Failure> {
             variables: &r.variables,
             responses: &r.responses,
         }),
-        moments: None,
+        moments: mom.as_ref().map(|m| MomentsView {
+            variables: &m.variables,
+            shocks: &m.shocks,
+            std: &m.std,
+            correlation: &m.correlation,
+            autocorrelation: &m.autocorrelation,
+            variance_decomposition: &m.variance_decomposition,
+            fevd: &m.fevd,
+            nonstationary: &m.nonstationary,
+            warnings: &m.warnings,
+        }),
         irf_error,
         moments_error,
         version: env!("CARGO_PKG_VERSION"),

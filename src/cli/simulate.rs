@@ -13,6 +13,7 @@ use saddle::analysis::simulate::{
     simulate, SimulateError, SimulationSettings, MAX_BURN_IN, MAX_STORED_VALUES,
 };
 use saddle::output::simulate as render;
+use saddle::output::svg::charts;
 
 fn simulate_failure(e: SimulateError) -> Failure {
     match e {
@@ -28,11 +29,6 @@ fn simulate_failure(e: SimulateError) -> Failure {
 }
 
 pub fn run(args: SimulateArgs) -> Result<Outcome, Failure> {
-    if args.plot.is_some() {
-        return Err(Failure::usage(
-            "--plot: plotting is not available yet in this build; write the paths as CSV and plot them elsewhere",
-        ));
-    }
     let settings = SolveSettings::from_args(&args.solve)?;
     let periods = usize::try_from(args.periods)
         .ok()
@@ -74,6 +70,28 @@ pub fn run(args: SimulateArgs) -> Result<Outcome, Failure> {
         (Format::Text, _) => render::to_text(&sim),
     };
     emit(args.out.output.as_deref(), text.as_bytes())?;
+    if let Some(path) = &args.plot {
+        let title = match &s.solved.title {
+            Some(t) => format!("Simulated paths: {t}"),
+            None => "Simulated paths".to_string(),
+        };
+        let note = format!(
+            "Model {}; seed {}, {} periods kept after a burn-in of {}.",
+            args.file.display(),
+            args.seed,
+            periods,
+            burn_in
+        );
+        let svg = charts::simulation_chart(
+            &title,
+            &sim.variables,
+            &charts::variable_subtitles(&s.model, &sim.variables, !sim.levels),
+            &sim.paths,
+            sim.levels,
+            &note,
+        );
+        super::output::write_atomic(path, svg.as_bytes())?;
+    }
     if settings.timings {
         print_timings(&s, t0.elapsed());
     }

@@ -15,6 +15,7 @@ use super::output::{emit, eprintln_quiet};
 use super::solve::{apply_overrides, failure, options};
 use super::{Failure, Outcome};
 use saddle::analysis::sweep::{sweep_model, SweepAxis, SweepError};
+use saddle::output::svg::charts;
 use saddle::output::sweep as render;
 use saddle::solution::PreparedModel;
 
@@ -22,11 +23,6 @@ use saddle::solution::PreparedModel;
 const PROGRESS_DELAY: Duration = Duration::from_millis(400);
 
 pub fn run(args: SweepArgs) -> Result<Outcome, Failure> {
-    if args.plot.is_some() {
-        return Err(Failure::usage(
-            "--plot: plotting is not available yet in this build; write the rows as CSV and plot them elsewhere",
-        ));
-    }
     let settings = SolveSettings::from_args(&args.solve)?;
     let axes = args
         .vary
@@ -115,6 +111,20 @@ pub fn run(args: SweepArgs) -> Result<Outcome, Failure> {
         Format::Text => render::to_text(&result),
     };
     emit(args.out.output.as_deref(), text.as_bytes())?;
+    if let Some(path) = &args.plot {
+        let title = match &model.title {
+            Some(t) => format!("Solution status: {t}"),
+            None => "Solution status over the parameter grid".to_string(),
+        };
+        let svg = charts::sweep_chart(
+            &title,
+            &result.parameters,
+            &result.axes,
+            result.points.iter().map(|p| p.status.clone()).collect(),
+            &args.file.display().to_string(),
+        );
+        super::output::write_atomic(path, svg.as_bytes())?;
+    }
     if settings.timings {
         eprintln_quiet("timings:");
         eprintln_quiet(&format!(
