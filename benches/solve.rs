@@ -167,25 +167,7 @@ fn generated(nb: usize, nf: usize, nm: usize, ns: usize, ne: usize) -> (Model, S
         eqs.push((v(s0 + k, 0), rhs));
     }
     // Leads and lags, as the front end records them.
-    for (l, r) in &eqs {
-        for side in [l, r] {
-            side.walk(&mut |x| match x {
-                Expr::Variable { index, offset } => {
-                    let en = &mut vars[*index];
-                    if *offset > 0 {
-                        en.max_lead = en.max_lead.max(*offset as u32);
-                    } else {
-                        en.max_lag = en.max_lag.max((-*offset) as u32);
-                    }
-                }
-                Expr::Innovation { index, offset } => {
-                    let ex = &mut shocks[*index];
-                    ex.max_lag = ex.max_lag.max((-*offset) as u32);
-                }
-                _ => {}
-            });
-        }
-    }
+    saddle::model::record_leads_and_lags(&mut vars, &mut shocks, &eqs);
     let mut text =
         String::from("title \"Generated archipelago: 500 islands (benchmark)\"\n\nendogenous\n");
     for x in &vars {

@@ -145,6 +145,37 @@ impl Leaves for ParameterValues<'_> {
     }
 }
 
+/// Records in `endogenous` and `exogenous` the largest lead and lag with which each appears in
+/// `equations` (overwrites only fields that grow; start them at 0). The front end computes the same
+/// from the syntax tree; this serves models built directly as `Expr` trees (tests, benchmarks).
+pub fn record_leads_and_lags(
+    endogenous: &mut [Endogenous],
+    exogenous: &mut [Exogenous],
+    equations: &[(Expr, Expr)],
+) {
+    for (l, r) in equations {
+        for side in [l, r] {
+            side.walk(&mut |x| match x {
+                Expr::Variable { index, offset } => {
+                    if let Some(en) = endogenous.get_mut(*index) {
+                        if *offset > 0 {
+                            en.max_lead = en.max_lead.max(offset.unsigned_abs());
+                        } else {
+                            en.max_lag = en.max_lag.max(offset.unsigned_abs());
+                        }
+                    }
+                }
+                Expr::Innovation { index, offset } => {
+                    if let Some(ex) = exogenous.get_mut(*index) {
+                        ex.max_lag = ex.max_lag.max(offset.unsigned_abs());
+                    }
+                }
+                _ => {}
+            });
+        }
+    }
+}
+
 impl Model {
     pub fn variable_names(&self) -> Vec<String> {
         self.endogenous.iter().map(|v| v.name.clone()).collect()

@@ -71,25 +71,7 @@ pub fn model(
             max_lag: 0,
         })
         .collect();
-    for (l, r) in &eqs {
-        for side in [l, r] {
-            side.walk(&mut |x| match x {
-                Expr::Variable { index, offset } => {
-                    let en = &mut endogenous[*index];
-                    if *offset > 0 {
-                        en.max_lead = en.max_lead.max(*offset as u32);
-                    } else {
-                        en.max_lag = en.max_lag.max((-*offset) as u32);
-                    }
-                }
-                Expr::Innovation { index, offset } => {
-                    let ex = &mut exogenous[*index];
-                    ex.max_lag = ex.max_lag.max((-*offset) as u32);
-                }
-                _ => {}
-            });
-        }
-    }
+    crate::model::record_leads_and_lags(&mut endogenous, &mut exogenous, &eqs);
     let parameters: Vec<Parameter> = params
         .iter()
         .map(|(name, value)| Parameter {
