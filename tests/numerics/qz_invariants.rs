@@ -3,8 +3,7 @@
 //! 1e-13 * max(1, n/10) (issue 3), S and T exactly upper triangular, beta real >= 0; the same
 //! after reordering by |alpha| < |beta|.
 
-mod qz_support;
-use qz_support::*;
+use super::qz_support::*;
 use saddle::qz::GeneralizedSchur;
 
 const SIZES: [usize; 14] = [1, 2, 3, 4, 5, 7, 10, 16, 31, 50, 64, 100, 180, 300];

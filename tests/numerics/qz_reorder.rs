@@ -2,9 +2,8 @@
 //! random selections and for clustered and repeated eigenvalues; the invariants of issue 3 still
 //! hold; the multiset of eigenvalues is unchanged; relative order within groups is kept.
 
-mod qz_support;
+use super::qz_support::*;
 use nalgebra::DMatrix;
-use qz_support::*;
 use saddle::qz::{GeneralizedSchur, QzError, C64};
 
 fn c(x: f64) -> C64 {

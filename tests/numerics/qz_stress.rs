@@ -3,9 +3,8 @@
 //! decomposed and reordered; every run must succeed (or report a singular pencil where the
 //! structure makes one likely) and satisfy the invariants of issue 3.
 
-mod qz_support;
+use super::qz_support::*;
 use nalgebra::DMatrix;
-use qz_support::*;
 use saddle::qz::{GeneralizedSchur, QzError};
 
 fn structured(rng: &mut Rng, n: usize, kind: u64) -> (DMatrix<f64>, DMatrix<f64>) {

@@ -2,21 +2,8 @@
 //!
 //! With `SADDLE_GALLERY=DIR` set, the outputs are also copied to DIR for rendering and looking.
 
+use crate::support::{code, saddle};
 use std::path::Path;
-use std::process::{Command, Output};
-
-fn saddle(args: &[&str]) -> Output {
-    Command::new(env!("CARGO_BIN_EXE_saddle"))
-        .args(args)
-        .env("NO_COLOR", "1")
-        .current_dir(env!("CARGO_MANIFEST_DIR"))
-        .output()
-        .unwrap()
-}
-
-fn code(o: &Output) -> i32 {
-    o.status.code().unwrap_or(-1)
-}
 
 fn keep(from: &Path, name: &str) {
     if let Ok(dir) = std::env::var("SADDLE_GALLERY") {

@@ -12,7 +12,7 @@ fn model(src: &str) -> Model {
 }
 
 fn harbour() -> Model {
-    model(include_str!("../models/harbour.saddle"))
+    model(include_str!("../../models/harbour.saddle"))
 }
 
 fn param(m: &Model, name: &str) -> f64 {
@@ -112,7 +112,7 @@ fn brock_mirman_exact_policy_and_steady_state() {
     // exactly, so in log deviations k = alpha k[t-1] + rho z[t-1] + e_z (coefficient alpha on
     // lagged capital, impact one) and the steady state is k = (alpha beta)^(1/(1-alpha)).
     let m = model(include_str!(
-        "../models/island_growth_full_depreciation.saddle"
+        "../../models/island_growth_full_depreciation.saddle"
     ));
     let (alpha, beta, rho) = (param(&m, "alpha"), param(&m, "beta"), param(&m, "rho"));
     let s = solve(&m, &SolveOptions::default()).unwrap();
@@ -126,7 +126,7 @@ fn brock_mirman_exact_policy_and_steady_state() {
     assert!((x.p[(k, iz)] - rho).abs() < 1e-10);
     assert!((x.q[(k, 0)] - 1.0).abs() < 1e-10);
     // The same model without the `steady` section: Newton must find the same point.
-    let src = include_str!("../models/island_growth_full_depreciation.saddle");
+    let src = include_str!("../../models/island_growth_full_depreciation.saddle");
     let cut = src.find("\nsteady").unwrap();
     let m2 = model(&src[..cut]);
     let s2 = solve(&m2, &SolveOptions::default()).unwrap();
@@ -226,10 +226,10 @@ fn two_period_lead_and_lagged_innovation_from_text() {
 #[test]
 fn demo_models_solve_with_small_residuals() {
     for src in [
-        include_str!("../models/harbour.saddle"),
-        include_str!("../models/ferry.saddle"),
-        include_str!("../models/island_growth.saddle"),
-        include_str!("../models/island_growth_full_depreciation.saddle"),
+        include_str!("../../models/harbour.saddle"),
+        include_str!("../../models/ferry.saddle"),
+        include_str!("../../models/island_growth.saddle"),
+        include_str!("../../models/island_growth_full_depreciation.saddle"),
     ] {
         let m = model(src);
         let d = PreparedModel::new(&m)

@@ -6,9 +6,8 @@
 //!   companion matrices of polynomials with known roots, and block pencils with a known number
 //!   of infinite eigenvalues.
 
-mod qz_support;
+use super::qz_support::*;
 use nalgebra::DMatrix;
-use qz_support::*;
 use saddle::qz::{GeneralizedSchur, C64};
 
 const EPS: f64 = f64::EPSILON;

@@ -6,7 +6,7 @@
 use saddle::model::check_source;
 use saddle::solution::{solve, SolveOptions};
 
-const HARBOUR: &str = include_str!("../models/harbour.saddle");
+const HARBOUR: &str = include_str!("../../models/harbour.saddle");
 
 fn rule(source: &str) -> (saddle::solution::Status, Vec<f64>) {
     let model = check_source(source).unwrap_or_else(|d| panic!("model does not check: {d:?}"));

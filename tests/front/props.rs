@@ -9,10 +9,10 @@ use saddle::model::check_source;
 use saddle::model::print::print_model;
 
 const DEMOS: [&str; 4] = [
-    include_str!("../models/harbour.saddle"),
-    include_str!("../models/island_growth.saddle"),
-    include_str!("../models/island_growth_full_depreciation.saddle"),
-    include_str!("../models/ferry.saddle"),
+    include_str!("../../models/harbour.saddle"),
+    include_str!("../../models/island_growth.saddle"),
+    include_str!("../../models/island_growth_full_depreciation.saddle"),
+    include_str!("../../models/ferry.saddle"),
 ];
 
 /// Pieces of the language, so random sequences reach deep parser states.

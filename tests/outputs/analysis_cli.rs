@@ -1,21 +1,6 @@
 //! `saddle moments`, `simulate` and `sweep` through the binary: formats, exit statuses, seeds.
 
-use std::path::PathBuf;
-use std::process::{Command, Output};
-
-fn model(name: &str) -> PathBuf {
-    PathBuf::from(env!("CARGO_MANIFEST_DIR"))
-        .join("models")
-        .join(name)
-}
-
-fn saddle(args: &[&str]) -> Output {
-    Command::new(env!("CARGO_BIN_EXE_saddle"))
-        .args(args)
-        .env("NO_COLOR", "1")
-        .output()
-        .unwrap()
-}
+use crate::support::{model_path as model, saddle};
 
 fn harbour() -> String {
     model("harbour.saddle").to_string_lossy().into_owned()

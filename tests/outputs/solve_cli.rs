@@ -1,33 +1,6 @@
 //! The `solve` and `irf` commands end to end: exit statuses, formats and messages (cli.md).
 
-use std::io::Write;
-use std::process::{Command, Output};
-
-fn saddle(args: &[&str]) -> Output {
-    Command::new(env!("CARGO_BIN_EXE_saddle"))
-        .args(args)
-        .env("NO_COLOR", "1")
-        .current_dir(env!("CARGO_MANIFEST_DIR"))
-        .output()
-        .unwrap()
-}
-
-fn code(o: &Output) -> i32 {
-    o.status.code().unwrap_or(-1)
-}
-
-fn text(b: &[u8]) -> String {
-    String::from_utf8_lossy(b).into_owned()
-}
-
-fn temp_model(src: &str) -> tempfile::NamedTempFile {
-    let mut f = tempfile::Builder::new()
-        .suffix(".saddle")
-        .tempfile()
-        .unwrap();
-    f.write_all(src.as_bytes()).unwrap();
-    f
-}
+use crate::support::{code, saddle, temp_model, text};
 
 #[test]
 fn solve_prints_roots_counts_and_equations() {

@@ -2,9 +2,8 @@
 //! many infinite eigenvalues, bad scaling, Jordan blocks, roots of unity on the unit circle,
 //! nearly decoupled pencils, non-finite input and singular pencils.
 
-mod qz_support;
+use super::qz_support::*;
 use nalgebra::DMatrix;
-use qz_support::*;
 use saddle::qz::{GeneralizedSchur, QzError, QzParams, RootPosition, C64};
 
 const EPS: f64 = f64::EPSILON;
