@@ -98,6 +98,7 @@ fn generated(nb: usize, nf: usize, nm: usize, ns: usize, ne: usize) -> (Model, S
             log,
             max_lead: 0,
             max_lag: 0,
+            predetermined: false,
         });
     }
     let mut shocks: Vec<Exogenous> = (0..ne)
@@ -208,6 +209,11 @@ fn generated(nb: usize, nf: usize, nm: usize, ns: usize, ne: usize) -> (Model, S
         sd_given: vec![true; ne],
         steady: Vec::new(),
         options: ModelOptions::default(),
+        observables: Vec::new(),
+        measurement_items: Vec::new(),
+        measurement_covariance: DMatrix::zeros(0, 0),
+        priors: Vec::new(),
+        objective: None,
     };
     (model, text)
 }
@@ -241,6 +247,7 @@ fn harbour(values: [f64; 6]) -> Model {
                 log: false,
                 max_lead: u32::from(i < 2),
                 max_lag: u32::from(i == 3),
+                predetermined: false,
             })
             .collect(),
         exogenous: ["e_rate", "e_cost"]
@@ -275,6 +282,11 @@ fn harbour(values: [f64; 6]) -> Model {
         sd_given: vec![true, true],
         steady: Vec::new(),
         options: ModelOptions::default(),
+        observables: Vec::new(),
+        measurement_items: Vec::new(),
+        measurement_covariance: DMatrix::zeros(0, 0),
+        priors: Vec::new(),
+        objective: None,
     }
 }
 

@@ -25,5 +25,6 @@ pub mod model;
 pub mod output;
 pub mod qz;
 pub mod solution;
+pub mod stats;
 pub mod steady;
 pub mod symbolic;

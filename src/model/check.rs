@@ -239,6 +239,7 @@ impl<'a> Checker<'a> {
                     log: d.log.is_some(),
                     max_lead: self.max_lead[i],
                     max_lag: self.max_lag[i],
+                    predetermined: false,
                 })
                 .collect(),
             exogenous: self
@@ -259,6 +260,11 @@ impl<'a> Checker<'a> {
             sd_given,
             steady,
             options,
+            observables: Vec::new(),
+            measurement_items: Vec::new(),
+            measurement_covariance: nalgebra::DMatrix::zeros(0, 0),
+            priors: Vec::new(),
+            objective: None,
         })
     }
 

@@ -28,6 +28,9 @@ pub struct Endogenous {
     pub max_lead: u32,
     /// Largest lag with which the variable appears in the equations (0 if none).
     pub max_lag: u32,
+    /// Declared `predetermined` (spec §8): a stock at the start of the period, whose value at `t`
+    /// is fixed at `t-1`, so `x[t+1]` is known at `t` and the variable is a state as written.
+    pub predetermined: bool,
 }
 
 /// An exogenous innovation (i.i.d., zero mean).
@@ -102,6 +105,56 @@ pub struct ModelOptions {
     pub horizon: Option<u32>,
 }
 
+/// An observable series (spec §9): `name = expr`, an expression of endogenous variables at `t`
+/// and their lags (offsets <= 0), parameters and steady values; no leads, no innovations.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Observable {
+    pub name: String,
+    pub label: Option<String>,
+    pub expr: Expr,
+}
+
+/// What a `priors` item is about (spec §10).
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum PriorTarget {
+    /// A parameter given directly in `parameters` (never a derived one), by index.
+    Parameter(usize),
+    /// `sd(e)` of an innovation, by index into `exogenous`.
+    ShockSd(usize),
+    /// `sd(o)` of an observable's measurement error, by index into `observables`.
+    MeasurementSd(usize),
+}
+
+/// One `priors` item: the distribution of the named quantity itself, optionally truncated to
+/// `[lo, hi]` (renormalised).
+#[derive(Debug, Clone, PartialEq)]
+pub struct Prior {
+    pub target: PriorTarget,
+    pub distribution: crate::stats::Distribution,
+    pub truncation: Option<(f64, f64)>,
+}
+
+/// A control of the policymaker (spec §11): `control NAME [replaces LABEL]`.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub struct Control {
+    /// Index into `endogenous`.
+    pub variable: usize,
+    /// Index into `equations` of the simple rule set aside under an optimal policy; `None` for a
+    /// control with no rule (then only optimal-policy regimes can solve the model).
+    pub replaces: Option<usize>,
+}
+
+/// The `objective` section (spec §11): minimise E_0 sum_t discount^t loss_t.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Objective {
+    /// The period loss: a quadratic form in endogenous variables at `t` and their lags.
+    pub loss: Expr,
+    /// The policymaker's discount factor, an expression of parameters; `None` falls back to the
+    /// `options` discount.
+    pub discount: Option<Expr>,
+    pub controls: Vec<Control>,
+}
+
 /// A model that passed every check of spec §5.
 #[derive(Debug, Clone, PartialEq)]
 pub struct Model {
@@ -124,6 +177,17 @@ pub struct Model {
     /// A dependency order for the `Known` steady items is computed where they are used.
     pub steady: Vec<SteadyItem>,
     pub options: ModelOptions,
+    /// The `observables` section, file order (spec §9).
+    pub observables: Vec<Observable>,
+    /// `covariance` items about observables' measurement errors; indices into `observables`.
+    pub measurement_items: Vec<CovarianceItem>,
+    /// Measurement-error covariance at the calibration (observables x observables; zero where
+    /// none was given).
+    pub measurement_covariance: DMatrix<f64>,
+    /// The `priors` section, file order (spec §10).
+    pub priors: Vec<Prior>,
+    /// The `objective` section (spec §11), if any.
+    pub objective: Option<Objective>,
 }
 
 /// Parameter values as [`Leaves`] for evaluating parameter-only expressions. Asking for a

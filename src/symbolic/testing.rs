@@ -61,6 +61,7 @@ pub fn model(
             log: *log,
             max_lead: 0,
             max_lag: 0,
+            predetermined: false,
         })
         .collect();
     let mut exogenous: Vec<Exogenous> = shocks
@@ -101,5 +102,10 @@ pub fn model(
         sd_given: vec![false; k],
         steady,
         options: ModelOptions::default(),
+        observables: Vec::new(),
+        measurement_items: Vec::new(),
+        measurement_covariance: DMatrix::zeros(0, 0),
+        priors: Vec::new(),
+        objective: None,
     }
 }

@@ -36,6 +36,7 @@ fn harbour_model() -> Model {
         log: false,
         max_lead: lead,
         max_lag: lag,
+        predetermined: false,
     };
     Model {
         title: Some("Harbour economy: output gap, inflation & the policy rate".to_string()),
@@ -90,6 +91,11 @@ fn harbour_model() -> Model {
         sd_given: vec![true, true],
         steady: vec![],
         options: ModelOptions::default(),
+        observables: Vec::new(),
+        measurement_items: Vec::new(),
+        measurement_covariance: DMatrix::zeros(0, 0),
+        priors: Vec::new(),
+        objective: None,
     }
 }
 
