@@ -11,6 +11,8 @@
 //! chain rule dy = ybar * dln y) and E_{i,s,l} = dr_i/de_{s,t-l}. The system is kept sparse as
 //! triplets; [`crate::canonical`] assembles the dense pencil from them.
 
+pub mod balance;
+
 use crate::model::{Expr, Function, Function2, Leaves, Model, MAX_EXPR_DEPTH};
 use crate::symbolic::{CompiledModel, Leaf};
 

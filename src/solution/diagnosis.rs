@@ -189,8 +189,9 @@ pub fn count_failure(
     let u = counts.unstable;
     let f = counts.forward_looking;
     let head = format!(
-        "{} outside the threshold {tau} (infinite ones included) against {}",
+        "{} outside the threshold {} (infinite ones included) against {}",
         plural(u, "root lies", "roots lie"),
+        super::threshold::show(tau),
         plural(f, "forward-looking variable", "forward-looking variables")
     );
     let near = format!("Roots nearest the threshold: {}.", nearest(roots, tau));
@@ -243,8 +244,9 @@ pub fn count_failure(
 /// The diagnosis of a failed rank condition.
 pub fn rank_failure(counts: &Counts, sigma: f64, tau: f64) -> String {
     format!(
-        "Rank condition fails: the counts match ({} outside the threshold {tau} against {}), but the stable roots do not determine the forward-looking variables from the states (smallest singular value of the block linking them is {sigma:.1e}, below 1e-10). Usually a predetermined variable does not feed back into the rest of the model, or two states move identically; check the equations of the lagged variables.",
+        "Rank condition fails: the counts match ({} outside the threshold {} against {}), but the stable roots do not determine the forward-looking variables from the states (smallest singular value of the block linking them is {sigma:.1e}, below 1e-10). Usually a predetermined variable does not feed back into the rest of the model, or two states move identically; check the equations of the lagged variables.",
         plural(counts.unstable, "root", "roots"),
+        super::threshold::show(tau),
         plural(counts.forward_looking, "forward-looking variable", "forward-looking variables")
     )
 }

@@ -24,7 +24,10 @@ use nalgebra::DMatrix;
 
 use super::diagnosis;
 use super::{Counts, Root, SolvedModel, StateSpace, Status};
-use crate::canonical::{build_pencil, CanonicalError, Layout, Pencil, StaticTreatment};
+use crate::canonical::{
+    build_pencil, CanonicalError, Layout, Pencil, StateElement, StaticTreatment,
+};
+use crate::linear::balance::{scaled, Scaling};
 use crate::linear::{linearize, LinearError, LinearSystem};
 use crate::model::Model;
 use crate::qz::{GeneralizedSchur, QzError, C64};
@@ -289,11 +292,17 @@ impl PreparedModel {
                 limit: MAX_PENCIL_DIM,
             });
         }
-        let mut pencil = build_pencil(&self.layout, &linear, self.static_treatment)?;
+        // Everything from the canonical form on works in balanced units (see
+        // `linear::balance`), so that no result depends on the units of equations or variables;
+        // the solution is brought back to the model's units before it is checked and reported.
+        let scaling = Scaling::of(&linear);
+        let balanced = scaling.apply(&linear);
+        let mut pencil = build_pencil(&self.layout, &balanced, self.static_treatment)?;
         equilibrate_rows(&mut pencil);
         timings.canonical_form = t0.elapsed();
 
         let mut warnings = steady.notes.clone();
+        warnings.extend(super::threshold::below_one_warning(tau));
         warnings.extend(linear.warnings.iter().cloned());
         if pencil.statics_kept_for_rank {
             warnings.push(
@@ -345,8 +354,9 @@ impl PreparedModel {
         let roots = roots_table(&pairs, tau, boundary_stable);
         for r in roots.iter().filter(|r| r.boundary) {
             warnings.push(format!(
-                "a root of modulus {} lies within {BOUNDARY_TOL:e} (relative) of the threshold {tau}; it is counted as {} ({})",
+                "a root of modulus {} lies within {BOUNDARY_TOL:e} (relative) of the threshold {}; it is counted as {} ({})",
                 r.modulus.unwrap_or(f64::INFINITY),
+                super::threshold::show(tau),
                 if r.stable { "stable" } else { "unstable" },
                 if boundary_stable {
                     "use --boundary-unstable to count it the other way"
@@ -386,6 +396,7 @@ impl PreparedModel {
                         ));
                     }
                     let space = state_space(&self.layout, &pencil, &n, &m, &gk, &hk)?;
+                    let space = to_model_units(space, &self.layout, &scaling);
                     let resid = super::check::plug_back(&linear, &self.layout, &space);
                     if resid.is_nan() || resid > PLUG_BACK_TOL {
                         warnings.push(format!(
@@ -405,18 +416,17 @@ impl PreparedModel {
             // Loadings read best on the pencil whose rows are the model's own equations.
             let kept;
             let for_diagnosis = if pencil.statics.is_some() {
-                kept = build_pencil(&self.layout, &linear, StaticTreatment::Keep)?;
+                kept = build_pencil(&self.layout, &balanced, StaticTreatment::Keep)?;
                 &kept
             } else {
                 &pencil
             };
-            diagnosis_text = Some(diagnosis::count_failure(
-                status,
-                &counts,
-                &roots,
-                tau,
-                for_diagnosis,
-            ));
+            let mut text = diagnosis::count_failure(status, &counts, &roots, tau, for_diagnosis);
+            if let Some(hint) = super::threshold::discount_hint(model, &roots, tau) {
+                text.push(' ');
+                text.push_str(&hint);
+            }
+            diagnosis_text = Some(text);
         }
         timings.solution = t0.elapsed();
 
@@ -815,13 +825,61 @@ fn state_space(
     })
 }
 
-/// Sets entries of the pair below [`CLEAN_TOL`] times the pair's largest entry to zero.
+/// Sets to zero the entries of the pair `[a b]` (same rows) that are below [`CLEAN_TOL`] times
+/// both the largest entry of their row and the largest entry of their column: round-off from the
+/// QZ, negligible in the units of the entry's variable and of its state alike. The pair is in
+/// balanced units (`linear::balance`) when this runs, so the test does not depend on the model's
+/// units either. Overwrites `a` and `b`.
 fn clean_pair(a: &mut DMatrix<f64>, b: &mut DMatrix<f64>) {
-    let big = a.iter().chain(b.iter()).fold(0.0f64, |m, v| m.max(v.abs()));
-    let tol = CLEAN_TOL * big;
-    for v in a.iter_mut().chain(b.iter_mut()) {
-        if v.abs() <= tol {
-            *v = 0.0;
+    let rows = a.nrows();
+    let mut row_max = vec![0.0f64; rows];
+    for (i, r) in row_max.iter_mut().enumerate() {
+        let ra = a.row(i).iter().fold(0.0f64, |m, v| m.max(v.abs()));
+        let rb = b.row(i).iter().fold(0.0f64, |m, v| m.max(v.abs()));
+        *r = ra.max(rb);
+    }
+    for m in [&mut *a, &mut *b] {
+        for j in 0..m.ncols() {
+            let col_max = m.column(j).iter().fold(0.0f64, |x, v| x.max(v.abs()));
+            for (i, rm) in row_max.iter().enumerate() {
+                let v = m[(i, j)];
+                if v.abs() <= CLEAN_TOL * rm.min(col_max) {
+                    m[(i, j)] = 0.0;
+                }
+            }
         }
     }
+}
+
+/// Brings a solution computed in balanced units back to the model's units (exact: the factors
+/// are powers of two). With yhat_j = 2^{c_j} y~_j and each state scaled like its variable
+/// (innovation states are not scaled): P_ja = 2^{c_j - c_a} P~_ja, Q_js = 2^{c_j} Q~_js,
+/// G_ab = 2^{c_a - c_b} G~_ab, H_as = 2^{c_a} H~_as. Consumes and returns the state space.
+fn to_model_units(mut space: StateSpace, layout: &Layout, scaling: &Scaling) -> StateSpace {
+    let state_exp: Vec<i32> = layout
+        .states
+        .iter()
+        .map(|s| match s {
+            StateElement::VariableLag { variable, .. } => {
+                scaling.variables.get(*variable).copied().unwrap_or(0)
+            }
+            StateElement::ShockLag { .. } => 0,
+        })
+        .collect();
+    let var_exp = &scaling.variables;
+    let rescale = |m: &mut DMatrix<f64>, row: &dyn Fn(usize) -> i32, col: &dyn Fn(usize) -> i32| {
+        for j in 0..m.ncols() {
+            for i in 0..m.nrows() {
+                m[(i, j)] = scaled(m[(i, j)], row(i) - col(j));
+            }
+        }
+    };
+    let var = |i: usize| var_exp.get(i).copied().unwrap_or(0);
+    let state = |a: usize| state_exp.get(a).copied().unwrap_or(0);
+    let none = |_: usize| 0;
+    rescale(&mut space.p, &var, &state);
+    rescale(&mut space.q, &var, &none);
+    rescale(&mut space.g, &state, &state);
+    rescale(&mut space.h, &state, &none);
+    space
 }

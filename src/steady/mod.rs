@@ -5,7 +5,9 @@
 //!
 //! 1. `steady name = expr` items fix values (evaluated in dependency order); `guess name = expr`
 //!    items start the search (default 1 for `log` variables, 0 for the others).
-//! 2. If every variable is fixed, the residuals are checked against [`KNOWN_VALUE_TOL`].
+//! 2. If every variable is fixed, the residuals are checked against [`KNOWN_VALUE_TOL`] relative
+//!    to the size of each equation's terms ([`term_scales`]): |R_i| <= 1e-8 sum_k |term_ik|.
+//!    Every convergence test below is relative in the same way, so no test depends on units.
 //! 3. Otherwise a damped Newton method solves for the rest with the exact Jacobian from
 //!    [`CompiledModel`]: the step solves J d = -R (LU), or, when J is singular or the system has
 //!    more equations than unknowns, the Levenberg-Marquardt step (J'J + mu I) d = -J'R; a
@@ -16,13 +18,17 @@
 
 use nalgebra::{DMatrix, DVector};
 
-use crate::model::{Expr, Leaves, Model, SteadyKind, MAX_EXPR_DEPTH};
+use crate::model::{BinaryOp, Expr, Leaves, Model, SteadyKind, MAX_EXPR_DEPTH};
 use crate::symbolic::CompiledModel;
 
-/// Residual below which `steady` values count as satisfying an equation (spec §6).
+/// Relative residual below which `steady` values count as satisfying an equation (spec §6): each
+/// equation's residual is compared with the size of its terms ([`term_scales`]), so the test
+/// means the same for a model in fractions and one in levels of 1e8, and for an equation
+/// multiplied through by any constant.
 pub const KNOWN_VALUE_TOL: f64 = 1e-8;
-/// Newton stops when every residual is below this: two orders below the spec's check, so that the
-/// linearization point is accurate well beyond the digits reported.
+/// Newton stops when every residual is below this relative to its equation's terms: two orders
+/// below the spec's check, so that the linearization point is accurate well beyond the digits
+/// reported, and still some hundred times the round-off of evaluating a sum of terms.
 pub const NEWTON_TOL: f64 = 1e-10;
 /// Newton iterations before giving up; a well-posed problem from a sensible guess needs < 20.
 pub const MAX_NEWTON_ITERATIONS: usize = 100;
@@ -44,10 +50,16 @@ pub enum SteadyError {
     Cycle { names: String },
     #[error("{0}")]
     BadValue(String),
-    #[error("the `steady` values leave equations unsatisfied (residual above {KNOWN_VALUE_TOL:e}): {0}. Check these values, or turn them into `guess` lines so the solver can adjust them")]
+    #[error("the `steady` values leave equations unsatisfied (residual above {KNOWN_VALUE_TOL:e} times the size of the equation's terms): {0}. Check these values, or turn them into `guess` lines so the solver can adjust them")]
     KnownValuesInconsistent(String),
     #[error("the steady-state equations cannot be evaluated at the starting point: {0}. Give a `guess` inside the domain (positive arguments of ln, log10, sqrt and of ^ with fractional powers; no division by zero)")]
     Domain(String),
+    #[error("the `steady` values put an equation outside its domain: {0}. Check these values (a division by a variable given as zero, the logarithm or square root of a negative value)")]
+    DomainAtGivenValues(String),
+    #[error("{variable} is declared `log`, but the steady state has {variable} = {value}, which is not positive; drop `log` from its declaration (its deviations are then in levels)")]
+    LogNotPositive { variable: String, value: f64 },
+    #[error("{variables} in {equation} has no steady state: no constant value satisfies that equation (the dates of {variables} cancel and a constant is left, as in x = x[t-1] + 1: a trend or a unit root). Write the model in growth rates or detrend it")]
+    NoConstantSolution { equation: String, variables: String },
     #[error("{0}")]
     Singular(String),
     #[error("Newton's method did not find the steady state after {iterations} iterations; the largest residuals remain in {report}. Hint: give a `guess` closer to the solution for the variables involved, or `steady` values where you know them; check signs, and the domains of ln, sqrt and ^")]
@@ -63,6 +75,8 @@ pub struct SteadyState {
     pub iterations: usize,
     /// Largest absolute residual at `values`.
     pub max_residual: f64,
+    /// Largest residual relative to the size of its equation's terms ([`term_scales`]).
+    pub relative_residual: f64,
     /// Notes for the person (for example, equations satisfied only by the steady values given).
     pub notes: Vec<String>,
 }
@@ -185,12 +199,211 @@ pub fn solve_steady(
     compiled: &CompiledModel,
     params: &[f64],
 ) -> Result<SteadyState, SteadyError> {
-    let n = model.endogenous.len();
     let (known, start) = resolve_items(model, params)?;
+    let log: Vec<bool> = model.endogenous.iter().map(|v| v.log).collect();
+    match newton_solve(model, compiled, params, &known, start.clone(), &log) {
+        Ok(s) => Ok(s),
+        Err(e) => explain_failure(model, compiled, params, &known, &start, &log, e),
+    }
+}
+
+/// After a failed solve, looks for the real cause and returns it in place of `first` (or the
+/// steady state, when the failure came from the starting point and a second attempt finds one
+/// that agrees with every `steady` value):
+/// 1. with `steady` values fixed, the values become the starting point of a solve for every
+///    variable: the values fitted the equations after all if that solve lands on them;
+///    otherwise the variables where it lands elsewhere are named;
+/// 2. with `log` variables, a solve in levels: a non-positive solution means the `log` marker
+///    cannot hold;
+/// 3. an equation that no constant value satisfies (its steady-state Jacobian row vanishes at
+///    two points while its residual does not): a trend or a unit root.
+fn explain_failure(
+    model: &Model,
+    compiled: &CompiledModel,
+    params: &[f64],
+    known: &[Option<f64>],
+    start: &[f64],
+    log: &[bool],
+    first: SteadyError,
+) -> Result<SteadyState, SteadyError> {
+    if matches!(first, SteadyError::Cycle { .. } | SteadyError::BadValue(_)) {
+        return Err(first);
+    }
+    let n = model.endogenous.len();
+    if let SteadyError::Domain(report) = &first {
+        return Err(
+            if known.iter().any(Option::is_some)
+                && domain_only_at_given(model, params, known, start)
+            {
+                SteadyError::DomainAtGivenValues(report.clone())
+            } else {
+                first
+            },
+        );
+    }
+    let free = vec![None; n];
+    if known.iter().any(Option::is_some) {
+        if let Ok(mut sol) = newton_solve(model, compiled, params, &free, start.to_vec(), log) {
+            let mut exact = sol.values.clone();
+            for (v, k) in exact.iter_mut().zip(known) {
+                if let Some(k) = k {
+                    *v = *k;
+                }
+            }
+            let mut work = Vec::new();
+            let mut r = vec![0.0; compiled.n_equations];
+            compiled.residuals.eval(params, &exact, &mut work, &mut r);
+            let rel = relative_at(model, params, &exact, &r);
+            if rel <= KNOWN_VALUE_TOL {
+                sol.values = exact;
+                sol.max_residual = max_abs(&r);
+                sol.relative_residual = rel;
+                return Ok(sol);
+            }
+            let differ: Vec<String> = known
+                .iter()
+                .enumerate()
+                .filter_map(|(j, k)| k.map(|k| (j, k)))
+                .filter(|&(j, k)| {
+                    let v = sol.values[j];
+                    (v - k).abs() > 1e-6 * v.abs().max(k.abs())
+                })
+                .take(REPORT_EQUATIONS)
+                .map(|(j, k)| {
+                    format!(
+                        "the equations put {} at {} where `steady` gives {}",
+                        model.endogenous[j].name,
+                        short(sol.values[j]),
+                        short(k)
+                    )
+                })
+                .collect();
+            if !differ.is_empty() {
+                let at_values =
+                    residual_report(model, compiled, &r, &term_scales(model, params, &exact));
+                return Err(SteadyError::KnownValuesInconsistent(format!(
+                    "{at_values}; {}",
+                    differ.join("; ")
+                )));
+            }
+        }
+    }
+    if log.iter().any(|&l| l) {
+        let levels = vec![false; n];
+        if let Ok(sol) = newton_solve(model, compiled, params, known, start.to_vec(), &levels) {
+            if let Some(j) = (0..n).find(|&j| log[j] && sol.values[j] <= 0.0) {
+                return Err(SteadyError::LogNotPositive {
+                    variable: model.endogenous[j].name.clone(),
+                    value: sol.values[j],
+                });
+            }
+        }
+    }
+    if let Some((equation, variables)) = trending_equation(model, compiled, params, start, log) {
+        return Err(SteadyError::NoConstantSolution {
+            equation,
+            variables,
+        });
+    }
+    Err(first)
+}
+
+/// Whether the equations that cannot be evaluated at `start` stay impossible to evaluate when the
+/// variables without `steady` values move (to two other points): then the values, not a guess,
+/// put them outside their domain.
+fn domain_only_at_given(
+    model: &Model,
+    params: &[f64],
+    known: &[Option<f64>],
+    start: &[f64],
+) -> bool {
+    let moved = |f: f64, c: f64| -> Vec<f64> {
+        start
+            .iter()
+            .zip(known)
+            .map(|(&v, k)| k.unwrap_or(v * f + c))
+            .collect()
+    };
+    let points = [moved(1.7, 0.9), moved(0.4, 2.3)];
+    let bad_at = |x: &[f64], i: usize| {
+        let leaves = SteadyLeaves { params, values: x };
+        let eq = &model.equations[i];
+        !(eq.lhs.eval(&leaves) - eq.rhs.eval(&leaves)).is_finite()
+    };
+    let bad: Vec<usize> = (0..model.equations.len())
+        .filter(|&i| bad_at(start, i))
+        .collect();
+    !bad.is_empty() && bad.iter().all(|&i| points.iter().all(|x| bad_at(x, i)))
+}
+
+/// An equation that holds at no constant value: its residual is nonzero while its steady-state
+/// Jacobian row is zero at `start` and at a second point, and it has a variable at two dates (so
+/// the dates cancel in the steady state, as in `x = x[t-1] + 1`). Returns its name and the
+/// variables that appear at several dates.
+fn trending_equation(
+    model: &Model,
+    compiled: &CompiledModel,
+    params: &[f64],
+    start: &[f64],
+    log: &[bool],
+) -> Option<(String, String)> {
+    let n = model.endogenous.len();
+    let col_of: Vec<usize> = (0..n).collect();
+    let other: Vec<f64> = start
+        .iter()
+        .zip(log)
+        .map(|(&v, &l)| if l { v * 1.7 + 0.3 } else { v * 1.7 + 0.9 })
+        .collect();
+    let mut work = Vec::new();
+    let mut jv = vec![0.0; compiled.jacobian_pattern.len()];
+    let j1 = assemble(compiled, params, start, &col_of, log, n, &mut work, &mut jv);
+    let j2 = assemble(
+        compiled, params, &other, &col_of, log, n, &mut work, &mut jv,
+    );
+    let mut r = vec![0.0; compiled.n_equations];
+    compiled.residuals.eval(params, start, &mut work, &mut r);
+    for (i, eq) in model.equations.iter().enumerate() {
+        let zero_row = |j: &DMatrix<f64>| j.row(i).iter().all(|v| *v == 0.0);
+        if r[i] == 0.0 || !r[i].is_finite() || !zero_row(&j1) || !zero_row(&j2) {
+            continue;
+        }
+        let mut dates: Vec<(usize, i32)> = Vec::new();
+        for side in [&eq.lhs, &eq.rhs] {
+            side.walk(&mut |e| {
+                if let Expr::Variable { index, offset } = e {
+                    dates.push((*index, *offset));
+                }
+            });
+        }
+        dates.sort_unstable();
+        dates.dedup();
+        let mut several: Vec<&str> = dates
+            .windows(2)
+            .filter(|w| w[0].0 == w[1].0)
+            .filter_map(|w| model.endogenous.get(w[0].0).map(|v| v.name.as_str()))
+            .collect();
+        several.dedup();
+        if !several.is_empty() {
+            return Some((model.equation_name(i), several.join(", ")));
+        }
+    }
+    None
+}
+
+/// Damped Newton (module doc, step 3) with the variables of `known` fixed, from `start`, in logs
+/// for the variables flagged in `log`. Returns the steady state or what went wrong.
+fn newton_solve(
+    model: &Model,
+    compiled: &CompiledModel,
+    params: &[f64],
+    known: &[Option<f64>],
+    start: Vec<f64>,
+    log: &[bool],
+) -> Result<SteadyState, SteadyError> {
+    let n = model.endogenous.len();
     let mut x = start;
     let unknown: Vec<usize> = (0..n).filter(|&j| known[j].is_none()).collect();
     let m = unknown.len();
-    let log: Vec<bool> = model.endogenous.iter().map(|v| v.log).collect();
 
     let mut work = Vec::new();
     let mut r = vec![0.0; compiled.n_equations];
@@ -198,19 +411,21 @@ pub fn solve_steady(
     if r.iter().any(|v| !v.is_finite()) {
         return Err(SteadyError::Domain(domain_report(model, params, &x, &r)));
     }
-    if m == 0 || max_abs(&r) <= NEWTON_TOL {
-        return finish(model, compiled, x, r, 0, m);
+    if m == 0 || relative_at(model, params, &x, &r) <= NEWTON_TOL {
+        return finish(model, compiled, params, x, r, 0, m);
     }
     // Block by block when nothing is fixed and the system decomposes; any trouble in a block
     // falls back to the full Newton solve from the same start (whose messages say what failed).
     if m == n {
         if let Some(blocks) = &compiled.steady_blocks {
             let mut xb = x.clone();
-            if let Some(iterations) = solve_by_blocks(blocks, params, &mut xb, &log) {
+            if let Some(iterations) = solve_by_blocks(model, blocks, params, &mut xb, log) {
                 let mut rb = vec![0.0; compiled.n_equations];
                 compiled.residuals.eval(params, &xb, &mut work, &mut rb);
-                if rb.iter().all(|v| v.is_finite()) && max_abs(&rb) <= NEWTON_TOL {
-                    return finish(model, compiled, xb, rb, iterations, m);
+                if rb.iter().all(|v| v.is_finite())
+                    && relative_at(model, params, &xb, &rb) <= NEWTON_TOL
+                {
+                    return finish(model, compiled, params, xb, rb, iterations, m);
                 }
             }
         }
@@ -225,7 +440,7 @@ pub fn solve_steady(
     let mut singular_seen = false;
     let mut trial = vec![0.0; compiled.n_equations];
     for iter in 1..=MAX_NEWTON_ITERATIONS {
-        let jac = assemble(compiled, params, &x, &col_of, &log, m, &mut work, &mut jv);
+        let jac = assemble(compiled, params, &x, &col_of, log, m, &mut work, &mut jv);
         if jac.iter().any(|v| !v.is_finite()) {
             return Err(SteadyError::Domain(format!(
                 "the Jacobian is not finite at iteration {iter} ({})",
@@ -243,7 +458,7 @@ pub fn solve_steady(
                         return Err(SteadyError::Singular(format!(
                             "{} (Newton iteration {iter}; largest residuals in {})",
                             singular_report(model, &unknown, &jac, &x),
-                            residual_report(model, compiled, &r)
+                            residual_report(model, compiled, &r, &term_scales(model, params, &x))
                         )))
                     }
                 }
@@ -264,7 +479,9 @@ pub fn solve_steady(
             compiled.residuals.eval(params, &xt, &mut work, &mut trial);
             if trial.iter().all(|v| v.is_finite()) {
                 let ft = 0.5 * norm2(&trial);
-                if ft <= (1.0 - 2.0 * ARMIJO * t) * f || max_abs(&trial) <= NEWTON_TOL {
+                if ft <= (1.0 - 2.0 * ARMIJO * t) * f
+                    || relative_at(model, params, &xt, &trial) <= NEWTON_TOL
+                {
                     accepted = true;
                     break;
                 }
@@ -277,16 +494,16 @@ pub fn solve_steady(
                     model, &unknown, &jac, &x,
                 )));
             }
-            return Err(not_found(model, compiled, &r, iter, m));
+            return Err(not_found(model, compiled, params, &x, &r, iter, m));
         }
         x.clone_from(&xt);
         r.clone_from(&trial);
         f = 0.5 * norm2(&r);
-        if max_abs(&r) <= NEWTON_TOL {
+        if relative_at(model, params, &x, &r) <= NEWTON_TOL {
             if singular_seen || m < compiled.n_equations {
                 // The path went through a singular point or the system is overdetermined: make
                 // sure the steady state found is locally unique.
-                let jac = assemble(compiled, params, &x, &col_of, &log, m, &mut work, &mut jv);
+                let jac = assemble(compiled, params, &x, &col_of, log, m, &mut work, &mut jv);
                 if !locally_unique(&jac) {
                     return Err(SteadyError::Singular(singular_report(
                         model, &unknown, &jac, &x,
@@ -294,12 +511,20 @@ pub fn solve_steady(
                 }
             }
             polish(
-                compiled, params, &mut x, &mut r, &unknown, &col_of, &log, &mut work,
+                compiled, params, &mut x, &mut r, &unknown, &col_of, log, &mut work,
             );
-            return finish(model, compiled, x, r, iter, m);
+            return finish(model, compiled, params, x, r, iter, m);
         }
     }
-    Err(not_found(model, compiled, &r, MAX_NEWTON_ITERATIONS, m))
+    Err(not_found(
+        model,
+        compiled,
+        params,
+        &x,
+        &r,
+        MAX_NEWTON_ITERATIONS,
+        m,
+    ))
 }
 
 /// The failure after Newton stopped: with some values fixed by `steady` items the likely culprit
@@ -307,11 +532,13 @@ pub fn solve_steady(
 fn not_found(
     model: &Model,
     compiled: &CompiledModel,
+    params: &[f64],
+    x: &[f64],
     r: &[f64],
     iterations: usize,
     n_unknown: usize,
 ) -> SteadyError {
-    let report = residual_report(model, compiled, r);
+    let report = residual_report(model, compiled, r, &term_scales(model, params, x));
     if n_unknown < compiled.n_equations {
         SteadyError::KnownValuesInconsistent(format!(
             "{report} (the other variables were fitted by least squares over {iterations} iterations)"
@@ -327,6 +554,7 @@ fn not_found(
 /// limit. The block Jacobians being nonsingular at the end makes the whole Jacobian nonsingular
 /// (it is block triangular), so the steady state found is locally unique.
 fn solve_by_blocks(
+    model: &Model,
     blocks: &[crate::symbolic::SteadyBlock],
     params: &[f64],
     x: &mut [f64],
@@ -343,8 +571,16 @@ fn solve_by_blocks(
         if r.iter().any(|v| !v.is_finite()) {
             return None;
         }
+        let block_rel = |x: &[f64], r: &[f64]| {
+            let scales: Vec<f64> = blk
+                .equations
+                .iter()
+                .map(|&i| equation_scale(model, params, x, i))
+                .collect();
+            relative_residual(r, &scales)
+        };
         let mut iters = 0;
-        let mut converged_at: Option<usize> = if max_abs(&r) <= NEWTON_TOL {
+        let mut converged_at: Option<usize> = if block_rel(x, &r) <= NEWTON_TOL {
             Some(0)
         } else {
             None
@@ -380,7 +616,7 @@ fn solve_by_blocks(
                         max_abs(&trial) <= max_abs(&r)
                     } else {
                         0.5 * norm2(&trial) <= (1.0 - 2.0 * ARMIJO * t) * f
-                            || max_abs(&trial) <= NEWTON_TOL
+                            || block_rel(x, &trial) <= NEWTON_TOL
                     };
                     if ok {
                         accepted = true;
@@ -408,7 +644,7 @@ fn solve_by_blocks(
             if polishing {
                 break;
             }
-            if max_abs(&r) <= NEWTON_TOL {
+            if block_rel(x, &r) <= NEWTON_TOL {
                 converged_at = Some(iters);
             }
         }
@@ -433,24 +669,32 @@ fn solve_by_blocks(
 fn finish(
     model: &Model,
     compiled: &CompiledModel,
+    params: &[f64],
     values: Vec<f64>,
     r: Vec<f64>,
     iterations: usize,
     n_unknown: usize,
 ) -> Result<SteadyState, SteadyError> {
     let worst = max_abs(&r);
-    if worst > KNOWN_VALUE_TOL {
+    let relative = relative_at(model, params, &values, &r);
+    if relative > KNOWN_VALUE_TOL {
         if n_unknown == 0 {
             return Err(SteadyError::KnownValuesInconsistent(residual_report(
-                model, compiled, &r,
+                model,
+                compiled,
+                &r,
+                &term_scales(model, params, &values),
             )));
         }
-        return Err(not_found(model, compiled, &r, iterations, n_unknown));
+        return Err(not_found(
+            model, compiled, params, &values, &r, iterations, n_unknown,
+        ));
     }
     Ok(SteadyState {
         values,
         iterations,
         max_residual: worst,
+        relative_residual: relative,
         notes: Vec::new(),
     })
 }
@@ -581,6 +825,60 @@ fn norm2(v: &[f64]) -> f64 {
     v.iter().map(|x| x * x).sum()
 }
 
+/// The size of each equation's terms at the steady-state point `x`: the sum of the absolute
+/// values of the additive terms of both sides (the operands of top-level `+`, `-` and unary
+/// minus). A residual is "small" relative to this: it is the scale of the numbers whose
+/// difference it is, so rounding alone leaves a residual of a few epsilons times it. Returns
+/// one value per equation (NaN where a term does not evaluate).
+pub fn term_scales(model: &Model, params: &[f64], x: &[f64]) -> Vec<f64> {
+    (0..model.equations.len())
+        .map(|i| equation_scale(model, params, x, i))
+        .collect()
+}
+
+/// The term size of equation `i` alone (see [`term_scales`]; NaN for an index out of range).
+pub fn equation_scale(model: &Model, params: &[f64], x: &[f64], i: usize) -> f64 {
+    let Some(eq) = model.equations.get(i) else {
+        return f64::NAN;
+    };
+    let leaves = SteadyLeaves { params, values: x };
+    let mut total = 0.0;
+    let mut stack: Vec<&Expr> = vec![&eq.lhs, &eq.rhs];
+    while let Some(e) = stack.pop() {
+        match e {
+            Expr::Binary(BinaryOp::Add | BinaryOp::Sub, a, b) => {
+                stack.push(a);
+                stack.push(b);
+            }
+            Expr::Neg(a) => stack.push(a),
+            other => total += other.eval(&leaves).abs(),
+        }
+    }
+    total
+}
+
+/// [`relative_residual`] of the full residual vector `r` at `x`.
+fn relative_at(model: &Model, params: &[f64], x: &[f64], r: &[f64]) -> f64 {
+    relative_residual(r, &term_scales(model, params, x))
+}
+
+/// The largest residual relative to its equation's terms (`r_i / scale_i`; an exact zero counts
+/// as zero whatever its scale, a non-finite value as infinity).
+pub fn relative_residual(r: &[f64], scales: &[f64]) -> f64 {
+    r.iter()
+        .zip(scales)
+        .map(|(&ri, &si)| {
+            if ri == 0.0 {
+                0.0
+            } else if !ri.is_finite() || si.is_nan() || si <= 0.0 {
+                f64::INFINITY
+            } else {
+                ri.abs() / si
+            }
+        })
+        .fold(0.0, f64::max)
+}
+
 fn max_abs(v: &[f64]) -> f64 {
     v.iter().fold(0.0, |a: f64, x| a.max(x.abs()))
 }
@@ -602,12 +900,14 @@ fn short(v: f64) -> String {
         .to_string()
 }
 
-/// The equations with the largest residuals and the variables each involves.
-fn residual_report(model: &Model, compiled: &CompiledModel, r: &[f64]) -> String {
+/// The equations with the largest residuals relative to their terms (`scales`, from
+/// [`term_scales`]) and the variables each involves.
+fn residual_report(model: &Model, compiled: &CompiledModel, r: &[f64], scales: &[f64]) -> String {
+    let rel = |i: usize| relative_residual(&[r[i]], &[scales.get(i).copied().unwrap_or(f64::NAN)]);
     let mut order: Vec<usize> = (0..r.len()).collect();
     order.sort_by(|&a, &b| {
-        r[b].abs()
-            .partial_cmp(&r[a].abs())
+        rel(b)
+            .partial_cmp(&rel(a))
             .unwrap_or(std::cmp::Ordering::Equal)
     });
     let parts: Vec<String> = order
@@ -620,9 +920,10 @@ fn residual_report(model: &Model, compiled: &CompiledModel, r: &[f64]) -> String
                 .map(|&j| model.endogenous[j].name.as_str())
                 .collect();
             format!(
-                "{} (residual {:.3e}; involves {})",
+                "{} (residual {:.3e}, {:.1e} of the size of its terms; involves {})",
                 model.equation_name(i),
                 r[i],
+                rel(i),
                 if vars.is_empty() {
                     "no variable".to_string()
                 } else {
