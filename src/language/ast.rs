@@ -143,12 +143,14 @@ impl<'a> Expr<'a> {
     }
 }
 
-/// `[log] name ["label"]` in `endogenous`.
+/// `[log] [predetermined] name ["label"]` in `endogenous` (the markers in either order).
 #[derive(Debug, Clone, PartialEq)]
 pub struct EndogenousDecl<'a> {
     pub log: Option<Span>,
+    pub predetermined: Option<Span>,
     pub name: Name<'a>,
-    pub label: Option<StringLit>,
+    /// Boxed to keep the parser's stack values small (see the module documentation).
+    pub label: Option<Box<StringLit>>,
 }
 
 /// `name ["label"]` in `exogenous`.
@@ -210,6 +212,84 @@ pub struct OptionDecl<'a> {
     pub span: Span,
 }
 
+/// `name = expr ["label"]` in `observables` (spec §9).
+#[derive(Debug, Clone, PartialEq)]
+pub struct ObservableDecl<'a> {
+    pub name: Name<'a>,
+    pub value: Box<Expr<'a>>,
+    pub label: Option<StringLit>,
+    pub span: Span,
+}
+
+/// What a `priors` item is about: a name (a parameter) or `sd(name)` / `var(name)` (an innovation
+/// or an observable's measurement error; `var` is parsed only to be reported).
+#[derive(Debug, Clone, PartialEq)]
+pub enum PriorTargetDecl<'a> {
+    Name(Name<'a>),
+    Scale {
+        kind: CovarianceKind,
+        name: Name<'a>,
+        span: Span,
+    },
+}
+
+/// `name = expr` inside a distribution's argument list.
+#[derive(Debug, Clone, PartialEq)]
+pub struct NamedArg<'a> {
+    pub name: Name<'a>,
+    pub value: Box<Expr<'a>>,
+}
+
+/// `target ~ dist(args) [in [lo, hi]]` in `priors` (spec §10). The distribution name, the
+/// argument names and the word `in` are plain names here; the checker gives them their meaning.
+#[derive(Debug, Clone, PartialEq)]
+pub struct PriorDecl<'a> {
+    pub target: PriorTargetDecl<'a>,
+    pub distribution: Name<'a>,
+    pub args: Vec<NamedArg<'a>>,
+    /// Span of the distribution call `dist(...)`.
+    pub call_span: Span,
+    /// `in [lo, hi]`: the word (checked to be `in`), the bounds and the bracket's span.
+    pub truncation: Option<Truncation<'a>>,
+    pub span: Span,
+}
+
+/// `in [lo, hi]` after a prior's distribution.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Truncation<'a> {
+    pub word: Name<'a>,
+    pub lo: Box<Expr<'a>>,
+    pub hi: Box<Expr<'a>>,
+    pub span: Span,
+}
+
+/// One item of `objective` (spec §11). The words `loss`, `discount`, `control` and `replaces` are
+/// plain names to the parser (so they stay usable as names elsewhere); the checker checks them.
+#[derive(Debug, Clone, PartialEq)]
+pub enum ObjectiveDecl<'a> {
+    /// `loss = expr` or `discount = expr` (the word is `name`).
+    Assign {
+        name: Name<'a>,
+        value: Box<Expr<'a>>,
+        span: Span,
+    },
+    /// `control NAME [replaces LABEL]` (the words are `keyword` and `replaces.0`).
+    Control {
+        keyword: Name<'a>,
+        variable: Name<'a>,
+        replaces: Option<(Name<'a>, Name<'a>)>,
+        span: Span,
+    },
+}
+
+impl ObjectiveDecl<'_> {
+    pub fn span(&self) -> Span {
+        match self {
+            ObjectiveDecl::Assign { span, .. } | ObjectiveDecl::Control { span, .. } => *span,
+        }
+    }
+}
+
 /// One statement of the file.
 #[derive(Debug, Clone, PartialEq)]
 pub enum Statement<'a> {
@@ -230,6 +310,9 @@ pub enum Statement<'a> {
     Covariance(Box<CovarianceDecl<'a>>),
     Steady(Box<SteadyDecl<'a>>),
     Option(Box<OptionDecl<'a>>),
+    Observable(Box<ObservableDecl<'a>>),
+    Prior(Box<PriorDecl<'a>>),
+    Objective(Box<ObjectiveDecl<'a>>),
     /// A statement that did not parse (already reported).
     Error,
 }

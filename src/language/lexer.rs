@@ -67,6 +67,8 @@ enum Raw {
     Slash,
     #[token("^")]
     Caret,
+    #[token("~")]
+    Tilde,
 }
 
 /// Which section a statement belongs to (the item marker the lexer puts in front of it).
@@ -81,6 +83,9 @@ pub enum Section {
     Covariance,
     Steady,
     Options,
+    Observables,
+    Priors,
+    Objective,
 }
 
 /// Tokens the grammar reads.
@@ -108,6 +113,7 @@ pub enum Tok<'a> {
     Star,
     Slash,
     Caret,
+    Tilde,
     // Reserved words (spec §2).
     Title,
     Endogenous,
@@ -117,6 +123,10 @@ pub enum Tok<'a> {
     Covariance,
     Steady,
     Options,
+    Observables,
+    Priors,
+    Objective,
+    Predetermined,
     Log,
     Guess,
     T,
@@ -137,7 +147,7 @@ pub enum Tok<'a> {
 }
 
 /// The reserved words of spec §2.
-pub const RESERVED: [&str; 25] = [
+pub const RESERVED: [&str; 29] = [
     "title",
     "endogenous",
     "exogenous",
@@ -146,6 +156,10 @@ pub const RESERVED: [&str; 25] = [
     "covariance",
     "steady",
     "options",
+    "observables",
+    "priors",
+    "objective",
+    "predetermined",
     "log",
     "guess",
     "t",
@@ -180,6 +194,10 @@ fn keyword(word: &str) -> Option<Tok<'static>> {
         "covariance" => Tok::Covariance,
         "steady" => Tok::Steady,
         "options" => Tok::Options,
+        "observables" => Tok::Observables,
+        "priors" => Tok::Priors,
+        "objective" => Tok::Objective,
+        "predetermined" => Tok::Predetermined,
         "log" => Tok::Log,
         "guess" => Tok::Guess,
         "t" => Tok::T,
@@ -211,6 +229,9 @@ fn section_of(word: &str) -> Option<Section> {
         "covariance" => Section::Covariance,
         "steady" => Section::Steady,
         "options" => Section::Options,
+        "observables" => Section::Observables,
+        "priors" => Section::Priors,
+        "objective" => Section::Objective,
         _ => return None,
     })
 }
@@ -260,6 +281,10 @@ impl Tok<'_> {
             Tok::Covariance => "covariance",
             Tok::Steady => "steady",
             Tok::Options => "options",
+            Tok::Observables => "observables",
+            Tok::Priors => "priors",
+            Tok::Objective => "objective",
+            Tok::Predetermined => "predetermined",
             Tok::Log => "log",
             Tok::Guess => "guess",
             Tok::T => "t",
@@ -295,6 +320,7 @@ impl Tok<'_> {
             Tok::Star => "*",
             Tok::Slash => "/",
             Tok::Caret => "^",
+            Tok::Tilde => "~",
             _ => "?",
         }
     }
@@ -380,6 +406,9 @@ impl<'a> Lexer<'a> {
                     | Tok::Covariance
                     | Tok::Steady
                     | Tok::Options
+                    | Tok::Observables
+                    | Tok::Priors
+                    | Tok::Objective
             );
             if is_header {
                 if let Some(w) = tok.reserved_word() {
@@ -627,6 +656,7 @@ impl<'a> Lexer<'a> {
                 Raw::Star => Tok::Star,
                 Raw::Slash => Tok::Slash,
                 Raw::Caret => Tok::Caret,
+                Raw::Tilde => Tok::Tilde,
             };
             self.push(span.start, tok, span.end);
         }

@@ -249,7 +249,8 @@ fn syntax_diagnostic(
                 )
                 .with_help(
                     "start a section with its keyword on a line of its own: endogenous, \
-                     exogenous, parameters, equations, covariance, steady or options",
+                     exogenous, parameters, equations, covariance, steady, options, \
+                     observables, priors or objective",
                 ),
             );
         }
@@ -347,6 +348,9 @@ fn describe_expected(expected: &[String]) -> Option<String> {
                     | "\"covariance\""
                     | "\"steady\""
                     | "\"options\""
+                    | "\"observables\""
+                    | "\"priors\""
+                    | "\"objective\""
             )
         {
             continue;
@@ -356,9 +360,8 @@ fn describe_expected(expected: &[String]) -> Option<String> {
             "Num" => "a number".to_string(),
             "Str" => "a string".to_string(),
             "NL" => "the end of the line".to_string(),
-            "ENDO" | "EXO" | "PARAM" | "EQN" | "COV" | "STEADY" | "OPT" | "OUTSIDE" | "INVALID" => {
-                continue
-            }
+            "ENDO" | "EXO" | "PARAM" | "EQN" | "COV" | "STEADY" | "OPT" | "OBS" | "PRIOR"
+            | "OBJ" | "OUTSIDE" | "INVALID" => continue,
             quoted => format!("`{}`", quoted.trim_matches('"')),
         };
         if !words.contains(&w) {

@@ -100,6 +100,8 @@ pub enum CovarianceProblem {
         "the correlations contradict each other: they do not form a valid correlation matrix (smallest eigenvalue {0:.3})"
     )]
     NotPositiveSemidefinite(f64),
+    #[error("a correlation of measurement errors needs the sd or var of both errors")]
+    CorrelationWithoutError,
 }
 
 /// A covariance matrix and, per innovation, whether its sd or var was given.
@@ -114,13 +116,56 @@ pub fn build_covariance(
     items: &[CovarianceItem],
     values: &[f64],
 ) -> Result<Covariance, Vec<(usize, CovarianceProblem)>> {
+    build_scaled(n, items, values, 1.0)
+}
+
+/// Builds the measurement-error covariance of `n` observables from `items` (indices into the
+/// observables) at the parameter values `values`: the same construction as [`build_covariance`]
+/// but an observable with neither `sd` nor `var` has no measurement error (sd 0, spec §9), and a
+/// `corr` item needs both errors' scales. Returns the matrix or every problem found.
+pub fn build_measurement_covariance(
+    n: usize,
+    items: &[CovarianceItem],
+    values: &[f64],
+) -> Result<DMatrix<f64>, Vec<(usize, CovarianceProblem)>> {
+    let scaled = |i: usize| {
+        items
+            .iter()
+            .any(|it| it.kind != CovarianceKind::Corr && it.shocks.0 == i)
+    };
+    let mut problems: Vec<(usize, CovarianceProblem)> = items
+        .iter()
+        .enumerate()
+        .filter(|(_, it)| {
+            it.kind == CovarianceKind::Corr && !(scaled(it.shocks.0) && scaled(it.shocks.1))
+        })
+        .map(|(k, _)| (k, CovarianceProblem::CorrelationWithoutError))
+        .collect();
+    match build_scaled(n, items, values, 0.0) {
+        Ok((sigma, _)) if problems.is_empty() => Ok(sigma),
+        Ok(_) => Err(problems),
+        Err(mut more) => {
+            more.append(&mut problems);
+            more.sort_by_key(|(k, _)| *k);
+            Err(more)
+        }
+    }
+}
+
+/// [`build_covariance`] with `default_sd` for the entries no item scales.
+fn build_scaled(
+    n: usize,
+    items: &[CovarianceItem],
+    values: &[f64],
+    default_sd: f64,
+) -> Result<Covariance, Vec<(usize, CovarianceProblem)>> {
     let leaves = Values {
         parameters: values,
         steady: &[],
     };
-    let mut sd = vec![1.0; n];
+    let mut sd = vec![default_sd; n];
     // Diagonal kept as given (a `var` item exactly, not sqrt(var)^2).
-    let mut var = vec![1.0; n];
+    let mut var = vec![default_sd * default_sd; n];
     let mut scale_item: Vec<Option<usize>> = vec![None; n];
     let mut corr = DMatrix::<f64>::identity(n, n);
     let mut corr_item: std::collections::HashMap<(usize, usize), usize> = Default::default();
@@ -226,6 +271,8 @@ pub enum OverrideError {
     },
     #[error("with the overrides, option `{name}` is {value}; it must be a positive finite number")]
     Option { name: String, value: f64 },
+    #[error("with the overrides, the objective's discount is {value}; it must lie in (0, 1]")]
+    ObjectiveDiscount { value: f64 },
 }
 
 impl Model {
@@ -283,6 +330,23 @@ impl Model {
                     item: super::print::covariance_item_text(&m.covariance_items[k], &names),
                     problem,
                 });
+            }
+        }
+        match build_measurement_covariance(m.observables.len(), &m.measurement_items, &values) {
+            Ok(sigma) => m.measurement_covariance = sigma,
+            Err(problems) => {
+                let (k, problem) = problems[0].clone();
+                let names = super::print::Names::of(&m);
+                return Err(OverrideError::Covariance {
+                    item: super::print::measurement_item_text(&m.measurement_items[k], &names),
+                    problem,
+                });
+            }
+        }
+        if let Some(e) = m.objective.as_ref().and_then(|o| o.discount.as_ref()) {
+            let v = m.eval_parameters(e);
+            if !(v > 0.0 && v <= 1.0) {
+                return Err(OverrideError::ObjectiveDiscount { value: v });
             }
         }
         for (name, e) in [

@@ -13,6 +13,8 @@
 
 use std::collections::HashMap;
 
+mod sections;
+
 use super::calibrate::{self, CovarianceProblem, Values};
 use super::print::{self, Names};
 use super::{
@@ -124,6 +126,7 @@ enum Symbol {
     Endogenous(usize),
     Exogenous(usize),
     Parameter(usize),
+    Observable(usize),
 }
 
 impl Symbol {
@@ -132,6 +135,7 @@ impl Symbol {
             Symbol::Endogenous(_) => "an endogenous variable",
             Symbol::Exogenous(_) => "an innovation",
             Symbol::Parameter(_) => "a parameter",
+            Symbol::Observable(_) => "an observable",
         }
     }
 }
@@ -145,6 +149,14 @@ enum Place {
     Steady,
     Covariance,
     Option,
+    /// An observable's definition (spec §9): variables at `t` and lags, no innovations.
+    Observable,
+    /// The objective's loss (spec §11): variables at `t` and lags, no innovations.
+    Loss,
+    /// The objective's discount: parameters only.
+    Discount,
+    /// An argument of a prior's distribution (spec §10): numbers only.
+    Prior,
 }
 
 impl Place {
@@ -155,6 +167,10 @@ impl Place {
             Place::Steady => "a steady-state value",
             Place::Covariance => "a covariance item",
             Place::Option => "an option",
+            Place::Observable => "an observable",
+            Place::Loss => "the loss",
+            Place::Discount => "the objective's discount",
+            Place::Prior => "a prior's arguments",
         }
     }
 }
@@ -184,6 +200,10 @@ struct Checker<'a> {
     covariance: Vec<&'a ast::CovarianceDecl<'a>>,
     steady: Vec<&'a ast::SteadyDecl<'a>>,
     options: Vec<&'a ast::OptionDecl<'a>>,
+    observables: Vec<&'a ast::ObservableDecl<'a>>,
+    priors: Vec<&'a ast::PriorDecl<'a>>,
+    objective: Vec<&'a ast::ObjectiveDecl<'a>>,
+    objective_header: Option<Span>,
     endogenous_header: Option<Span>,
     equations_header: Option<Span>,
     /// Per endogenous variable: used in an equation at some date; largest lead; largest lag.
@@ -219,10 +239,16 @@ impl<'a> Checker<'a> {
 
         let (parameters, order) = self.check_parameters();
         let equations = self.check_equations();
-        self.check_counts();
-        let (covariance_items, covariance, sd_given) = self.check_covariance(&parameters);
+        let observables = self.check_observables();
+        let objective = self.check_objective(&parameters);
+        let free_controls = objective.as_ref().map_or(0, |o| {
+            o.controls.iter().filter(|c| c.replaces.is_none()).count()
+        });
+        self.check_counts(free_controls);
+        let cov = self.check_covariance(&parameters);
         let steady = self.check_steady(&parameters);
         let options = self.check_options(&parameters);
+        let priors = self.check_priors(&parameters, &cov);
 
         if self.diags.iter().any(Diagnostic::is_error) {
             return None;
@@ -239,7 +265,7 @@ impl<'a> Checker<'a> {
                     log: d.log.is_some(),
                     max_lead: self.max_lead[i],
                     max_lag: self.max_lag[i],
-                    predetermined: false,
+                    predetermined: d.predetermined.is_some(),
                 })
                 .collect(),
             exogenous: self
@@ -255,16 +281,16 @@ impl<'a> Checker<'a> {
             parameters,
             parameter_order: order,
             equations,
-            covariance_items,
-            covariance,
-            sd_given,
+            covariance_items: cov.items,
+            covariance: cov.sigma,
+            sd_given: cov.sd_given,
             steady,
             options,
-            observables: Vec::new(),
-            measurement_items: Vec::new(),
-            measurement_covariance: nalgebra::DMatrix::zeros(0, 0),
-            priors: Vec::new(),
-            objective: None,
+            observables,
+            measurement_items: cov.measurement_items,
+            measurement_covariance: cov.measurement,
+            priors,
+            objective,
         })
     }
 
@@ -297,6 +323,9 @@ impl<'a> Checker<'a> {
                     language::lexer::Section::Equations => {
                         self.equations_header.get_or_insert(*keyword);
                     }
+                    language::lexer::Section::Objective => {
+                        self.objective_header.get_or_insert(*keyword);
+                    }
                     _ => {}
                 },
                 ast::Statement::Endogenous(v) => self.endogenous.extend(v.iter()),
@@ -306,6 +335,9 @@ impl<'a> Checker<'a> {
                 ast::Statement::Covariance(c) => self.covariance.push(c),
                 ast::Statement::Steady(s) => self.steady.push(s),
                 ast::Statement::Option(o) => self.options.push(o),
+                ast::Statement::Observable(o) => self.observables.push(o),
+                ast::Statement::Prior(p) => self.priors.push(p),
+                ast::Statement::Objective(o) => self.objective.push(o),
                 ast::Statement::Error => {}
             }
         }
@@ -331,6 +363,12 @@ impl<'a> Checker<'a> {
                 .iter()
                 .enumerate()
                 .map(|(i, d)| (&d.name, Symbol::Parameter(i))),
+        );
+        decls.extend(
+            self.observables
+                .iter()
+                .enumerate()
+                .map(|(i, d)| (&d.name, Symbol::Observable(i))),
         );
         decls.sort_by_key(|(n, _)| n.span.start);
         for (name, sym) in decls {
@@ -380,7 +418,10 @@ impl<'a> Checker<'a> {
     fn unknown_name(&mut self, name: &str, span: Span, place: Place) {
         let filter = |s: Symbol| match place {
             Place::Equation => true,
-            Place::Steady => !matches!(s, Symbol::Exogenous(_)),
+            Place::Steady | Place::Observable | Place::Loss => {
+                !matches!(s, Symbol::Exogenous(_) | Symbol::Observable(_))
+            }
+            Place::Prior => false,
             _ => matches!(s, Symbol::Parameter(_)),
         };
         let mut d = Diagnostic::error(
@@ -497,8 +538,46 @@ impl<'a> Checker<'a> {
             self.unknown_name(name, span, place);
             return None;
         };
-        let constant_only = matches!(place, Place::Parameter | Place::Covariance | Place::Option);
+        let constant_only = matches!(
+            place,
+            Place::Parameter | Place::Covariance | Place::Option | Place::Discount
+        );
+        if place == Place::Prior {
+            self.error(
+                Diagnostic::error(
+                    "prior-argument-name",
+                    format!("`{name}` cannot appear in a prior's arguments"),
+                    span,
+                    "not a number",
+                )
+                .with_label(decl_span, "declared here")
+                .with_help(
+                    "a prior's arguments are numbers (a prior is fixed before estimation; it \
+                     does not move with the parameters)",
+                ),
+            );
+            return None;
+        }
         match sym {
+            Symbol::Observable(_) => {
+                self.error(
+                    Diagnostic::error(
+                        "observable-in-expression",
+                        format!(
+                            "`{name}` is an observable and cannot appear in {}",
+                            place.what()
+                        ),
+                        span,
+                        "an observable",
+                    )
+                    .with_label(decl_span, "declared as an observable here")
+                    .with_help(
+                        "observables are defined from the variables; use the variables they \
+                         are made of",
+                    ),
+                );
+                None
+            }
             Symbol::Parameter(i) => {
                 if let Some((ix, _)) = &index {
                     self.error(
@@ -560,6 +639,41 @@ impl<'a> Checker<'a> {
                         );
                         None
                     }
+                    (Place::Observable | Place::Loss, index) => {
+                        let (k, ix_span) = match index {
+                            Some((ix, Index::Offset(k))) => (k, ix.span),
+                            _ => (0, span),
+                        };
+                        if k > 0 {
+                            let (code, what) = if place == Place::Observable {
+                                ("lead-in-observable", "an observable")
+                            } else {
+                                ("lead-in-loss", "the loss")
+                            };
+                            self.error(
+                                Diagnostic::error(
+                                    code,
+                                    format!("`{name}` appears with a lead in {what}"),
+                                    ix_span,
+                                    "a lead",
+                                )
+                                .with_help(
+                                    if place == Place::Observable {
+                                        "an observable is measured at t: use variables at t and \
+                                     their lags (add a variable for an expectation if the data \
+                                     measure one)"
+                                    } else {
+                                        "the period loss uses variables at t and their lags only"
+                                    },
+                                ),
+                            );
+                            return None;
+                        }
+                        Some(Expr::Variable {
+                            index: i,
+                            offset: k,
+                        })
+                    }
                     (_, index) => {
                         let k = match index {
                             Some((_, Index::Offset(k))) => k,
@@ -581,6 +695,29 @@ impl<'a> Checker<'a> {
             Symbol::Exogenous(i) => {
                 if constant_only {
                     self.not_constant(name, span, sym, place, decl_span);
+                    return None;
+                }
+                if matches!(place, Place::Observable | Place::Loss) {
+                    let (code, what) = if place == Place::Observable {
+                        ("innovation-in-observable", "an observable")
+                    } else {
+                        ("innovation-in-loss", "the loss")
+                    };
+                    self.error(
+                        Diagnostic::error(
+                            code,
+                            format!("innovation `{name}` cannot appear in {what}"),
+                            span,
+                            "an innovation",
+                        )
+                        .with_label(decl_span, "declared as an innovation here")
+                        .with_help(if place == Place::Observable {
+                            "an observable is a function of the variables; measurement noise \
+                             is given by `sd(observable)` in the covariance section"
+                        } else {
+                            "the period loss is a function of the variables at t and their lags"
+                        }),
+                    );
                     return None;
                 }
                 if place == Place::Steady {
@@ -905,6 +1042,14 @@ impl<'a> Checker<'a> {
             for o in &self.options {
                 look(&o.value);
             }
+            for o in &self.observables {
+                look(&o.value);
+            }
+            for o in &self.objective {
+                if let ast::ObjectiveDecl::Assign { value, .. } = &**o {
+                    look(value);
+                }
+            }
             self.used_names = Some(set);
         }
         let name = self.parameters[i].name.text;
@@ -1022,6 +1167,11 @@ impl<'a> Checker<'a> {
                 .iter()
                 .map(|p| p.name.text.to_string())
                 .collect(),
+            observables: self
+                .observables
+                .iter()
+                .map(|p| p.name.text.to_string())
+                .collect(),
         }
     }
 
@@ -1065,7 +1215,9 @@ impl<'a> Checker<'a> {
         out
     }
 
-    fn check_counts(&mut self) {
+    /// The equation count: one equation per endogenous variable, less one per control without a
+    /// rule (`free_controls`, spec §11).
+    fn check_counts(&mut self, free_controls: usize) {
         let n_endo = self.endogenous.len();
         let n_eq = self.equations.len();
         if n_endo == 0 {
@@ -1084,7 +1236,7 @@ impl<'a> Checker<'a> {
             );
             return;
         }
-        if n_eq != n_endo {
+        if n_eq + free_controls != n_endo {
             let list = |names: Vec<String>| {
                 const SHOWN: usize = 12;
                 let more = names.len().saturating_sub(SHOWN);
@@ -1114,10 +1266,24 @@ impl<'a> Checker<'a> {
                 .equations_header
                 .or(self.endogenous_header)
                 .unwrap_or_default();
+            let controls = if free_controls == 0 {
+                String::new()
+            } else {
+                format!(
+                    " and {free_controls} control{} without a rule",
+                    if free_controls == 1 { "" } else { "s" }
+                )
+            };
+            let rule = if free_controls == 0 {
+                "there must be one equation per endogenous variable"
+            } else {
+                "there must be one equation per endogenous variable, less one per `control NAME` \
+                 without `replaces`"
+            };
             let mut d = Diagnostic::error(
                 "equation-count",
                 format!(
-                    "the model has {n_eq} equation{} for {n_endo} endogenous variable{}",
+                    "the model has {n_eq} equation{} for {n_endo} endogenous variable{}{controls}",
                     if n_eq == 1 { "" } else { "s" },
                     if n_endo == 1 { "" } else { "s" }
                 ),
@@ -1125,7 +1291,7 @@ impl<'a> Checker<'a> {
                 format!("{n_eq} equations"),
             )
             .with_help(format!(
-                "there must be one equation per endogenous variable.\nendogenous ({n_endo}): {vars}\nequations ({n_eq}): {eqs}"
+                "{rule}.\nendogenous ({n_endo}): {vars}\nequations ({n_eq}): {eqs}"
             ));
             if let (Some(h), Some(e)) = (self.endogenous_header, self.equations_header) {
                 if h != e {
@@ -1150,16 +1316,23 @@ impl<'a> Checker<'a> {
         }
     }
 
-    fn shock(&mut self, name: &ast::Name<'a>) -> Option<usize> {
+    /// Resolves a name in a covariance item: an innovation or an observable (its measurement
+    /// error); anything else is reported.
+    fn shock(&mut self, name: &ast::Name<'a>) -> Option<Scale> {
         match self.names.get(name.text).copied() {
-            Some((Symbol::Exogenous(i), _)) => Some(i),
+            Some((Symbol::Exogenous(i), _)) => Some(Scale::Innovation(i)),
+            Some((Symbol::Observable(i), _)) => Some(Scale::Measurement(i)),
             Some((sym, decl)) => {
                 self.error(
                     Diagnostic::error(
                         "not-an-innovation",
-                        format!("`{}` is {}, not an innovation", name.text, sym.kind()),
+                        format!(
+                            "`{}` is {}, not an innovation or an observable",
+                            name.text,
+                            sym.kind()
+                        ),
                         name.span,
-                        "covariance items name innovations",
+                        "covariance items name innovations or observables",
                     )
                     .with_label(decl, "declared here"),
                 );
@@ -1172,10 +1345,15 @@ impl<'a> Checker<'a> {
                     name.span,
                     "not declared",
                 );
-                if let Some(h) = self.suggest(name.text, |s| matches!(s, Symbol::Exogenous(_))) {
+                if let Some(h) = self.suggest(name.text, |s| {
+                    matches!(s, Symbol::Exogenous(_) | Symbol::Observable(_))
+                }) {
                     d = d.with_help(h);
                 } else {
-                    d = d.with_help("declare it in the exogenous section");
+                    d = d.with_help(
+                        "declare it in the exogenous section (or in observables for a \
+                         measurement error)",
+                    );
                 }
                 self.error(d);
                 None
@@ -1183,38 +1361,102 @@ impl<'a> Checker<'a> {
         }
     }
 
-    fn check_covariance(
+    /// Reports the problems `build_covariance` found, each at its item's span.
+    fn report_covariance_problems(
         &mut self,
-        parameters: &[Parameter],
-    ) -> (Vec<CovarianceItem>, nalgebra::DMatrix<f64>, Vec<bool>) {
+        problems: Vec<(usize, CovarianceProblem)>,
+        spans: &[Span],
+    ) {
+        for (k, p) in problems {
+            let Some(&span) = spans.get(k) else { continue };
+            let mut d = Diagnostic::error(
+                "covariance",
+                format!("invalid covariance item: {p}"),
+                span,
+                "here",
+            );
+            match p {
+                CovarianceProblem::DuplicateScale(first)
+                | CovarianceProblem::DuplicateCorrelation(first) => {
+                    d.message = "covariance given twice for the same innovations".into();
+                    if let Some(&f) = spans.get(first) {
+                        d = d.with_label(f, "first given here");
+                    }
+                    d = d.with_help("give each sd (or var) and each correlation once");
+                }
+                CovarianceProblem::NotPositiveSemidefinite(_) => {
+                    d.message = p.to_string();
+                    d.label = "among these correlations".into();
+                    d = d.with_help(
+                        "some correlations contradict each other (for example a and b \
+                         strongly positive, b and c too, but a and c strongly negative)",
+                    );
+                }
+                CovarianceProblem::CorrelationWithoutError => {
+                    d.code = "measurement-corr-without-error";
+                    d.message = p.to_string();
+                    d.label = "correlation of measurement errors".into();
+                    d = d.with_help(
+                        "an observable has a measurement error only when the covariance \
+                         section gives its sd or var; give both, or drop the correlation",
+                    );
+                }
+                _ => {}
+            }
+            self.error(d);
+        }
+    }
+
+    /// The covariance section: innovations' items and matrix, and measurement errors' items and
+    /// matrix (spec §9), each checked like the other (values, duplicates, PSD).
+    fn check_covariance(&mut self, parameters: &[Parameter]) -> CheckedCovariance {
         let n = self.exogenous.len();
-        if n > MAX_INNOVATIONS {
-            let d = self.exogenous[MAX_INNOVATIONS];
+        let n_obs = self.observables.len();
+        let mut out = CheckedCovariance {
+            items: Vec::new(),
+            sigma: nalgebra::DMatrix::identity(n.min(MAX_INNOVATIONS), n.min(MAX_INNOVATIONS)),
+            sd_given: vec![false; n.min(MAX_INNOVATIONS)],
+            measurement_items: Vec::new(),
+            measurement: nalgebra::DMatrix::zeros(
+                n_obs.min(MAX_INNOVATIONS),
+                n_obs.min(MAX_INNOVATIONS),
+            ),
+        };
+        if n > MAX_INNOVATIONS || n_obs > MAX_INNOVATIONS {
+            let (span, what) = if n > MAX_INNOVATIONS {
+                (self.exogenous[MAX_INNOVATIONS].name.span, "innovations")
+            } else {
+                (self.observables[MAX_INNOVATIONS].name.span, "observables")
+            };
+            let count = if n > MAX_INNOVATIONS { n } else { n_obs };
             self.error(
                 Diagnostic::error(
                     "too-many-innovations",
-                    format!("the model declares {n} innovations; the limit is {MAX_INNOVATIONS}"),
-                    d.name.span,
+                    format!("the model declares {count} {what}; the limit is {MAX_INNOVATIONS}"),
+                    span,
                     "one too many",
                 )
-                .with_help("the covariance matrix of the innovations is stored in full"),
+                .with_help("covariance matrices are stored in full"),
             );
-            return (Vec::new(), nalgebra::DMatrix::zeros(0, 0), Vec::new());
+            out.sigma = nalgebra::DMatrix::zeros(0, 0);
+            out.sd_given = Vec::new();
+            out.measurement = nalgebra::DMatrix::zeros(0, 0);
+            return out;
         }
-        let mut items = Vec::new();
         let mut spans = Vec::new();
+        let mut m_spans = Vec::new();
         let mut ok = true;
         for k in 0..self.covariance.len() {
             let c = self.covariance[k];
-            let shocks: Vec<Option<usize>> = c.shocks.iter().map(|s| self.shock(s)).collect();
+            let scales: Vec<Option<Scale>> = c.shocks.iter().map(|s| self.shock(s)).collect();
             let mut refs = Refs::default();
             let e = self.lower(&c.value, Place::Covariance, &mut refs);
-            let (Some(e), Some(Some(a))) = (e, shocks.first().copied()) else {
+            let Some(Some(a)) = scales.first().copied() else {
                 ok = false;
                 continue;
             };
             let b = match c.kind {
-                ast::CovarianceKind::Corr => match shocks.get(1).copied().flatten() {
+                ast::CovarianceKind::Corr => match scales.get(1).copied().flatten() {
                     Some(b) => b,
                     None => {
                         ok = false;
@@ -1228,52 +1470,79 @@ impl<'a> Checker<'a> {
                 ast::CovarianceKind::Var => CovarianceKind::Var,
                 ast::CovarianceKind::Corr => CovarianceKind::Corr,
             };
-            items.push(CovarianceItem {
-                kind,
-                shocks: (a, b),
-                expr: e,
-            });
-            spans.push(c.span);
-        }
-        let values: Vec<f64> = parameters.iter().map(|p| p.value).collect();
-        let parameters_ok = values.iter().all(|v| v.is_finite());
-        if parameters_ok {
-            match calibrate::build_covariance(n, &items, &values) {
-                Ok((sigma, given)) if ok => return (items, sigma, given),
-                Ok(_) => {}
-                Err(problems) => {
-                    for (k, p) in problems {
-                        let mut d = Diagnostic::error(
-                            "covariance",
-                            format!("invalid covariance item: {p}"),
-                            spans[k],
-                            "here",
-                        );
-                        match p {
-                            CovarianceProblem::DuplicateScale(first)
-                            | CovarianceProblem::DuplicateCorrelation(first) => {
-                                d.message =
-                                    "covariance given twice for the same innovations".into();
-                                d = d
-                                    .with_label(spans[first], "first given here")
-                                    .with_help("give each sd (or var) and each correlation once");
-                            }
-                            CovarianceProblem::NotPositiveSemidefinite(_) => {
-                                d.message = p.to_string();
-                                d.label = "among these correlations".into();
-                                d = d.with_help(
-                                    "some correlations contradict each other (for example a and b \
-                                     strongly positive, b and c too, but a and c strongly negative)",
-                                );
-                            }
-                            _ => {}
-                        }
-                        self.error(d);
-                    }
+            let pair = match (a, b) {
+                (Scale::Innovation(a), Scale::Innovation(b)) => Ok((a, b)),
+                (Scale::Measurement(a), Scale::Measurement(b)) => Err((a, b)),
+                _ => {
+                    let (innovation, observable) = if matches!(a, Scale::Innovation(_)) {
+                        (&c.shocks[0], &c.shocks[1])
+                    } else {
+                        (&c.shocks[1], &c.shocks[0])
+                    };
+                    self.error(
+                        Diagnostic::error(
+                            "innovation-measurement-corr",
+                            format!(
+                                "a correlation between innovation `{}` and the measurement \
+                                 error of `{}`",
+                                innovation.text, observable.text
+                            ),
+                            c.span,
+                            "not allowed",
+                        )
+                        .with_label(innovation.span, "an innovation")
+                        .with_label(observable.span, "an observable")
+                        .with_help(
+                            "measurement errors are independent of the innovations; to let \
+                             them co-move, add an innovation to the observable's definition \
+                             through a variable",
+                        ),
+                    );
+                    ok = false;
+                    continue;
+                }
+            };
+            let Some(e) = e else {
+                ok = false;
+                continue;
+            };
+            match pair {
+                Ok(shocks) => {
+                    out.items.push(CovarianceItem {
+                        kind,
+                        shocks,
+                        expr: e,
+                    });
+                    spans.push(c.span);
+                }
+                Err(shocks) => {
+                    out.measurement_items.push(CovarianceItem {
+                        kind,
+                        shocks,
+                        expr: e,
+                    });
+                    m_spans.push(c.span);
                 }
             }
         }
-        (items, nalgebra::DMatrix::identity(n, n), vec![false; n])
+        let values: Vec<f64> = parameters.iter().map(|p| p.value).collect();
+        if !values.iter().all(|v| v.is_finite()) {
+            return out;
+        }
+        match calibrate::build_covariance(n, &out.items, &values) {
+            Ok((sigma, given)) => {
+                if ok {
+                    out.sigma = sigma;
+                    out.sd_given = given;
+                }
+            }
+            Err(problems) => self.report_covariance_problems(problems, &spans),
+        }
+        match calibrate::build_measurement_covariance(n_obs, &out.measurement_items, &values) {
+            Ok(m) => out.measurement = m,
+            Err(problems) => self.report_covariance_problems(problems, &m_spans),
+        }
+        out
     }
 
     fn check_steady(&mut self, parameters: &[Parameter]) -> Vec<SteadyItem> {
@@ -1583,6 +1852,22 @@ impl<'a> Checker<'a> {
     }
 }
 
+/// What a name in a covariance item stands for.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+enum Scale {
+    Innovation(usize),
+    Measurement(usize),
+}
+
+/// The checked `covariance` section.
+struct CheckedCovariance {
+    items: Vec<CovarianceItem>,
+    sigma: nalgebra::DMatrix<f64>,
+    sd_given: Vec<bool>,
+    measurement_items: Vec<CovarianceItem>,
+    measurement: nalgebra::DMatrix<f64>,
+}
+
 fn items_var(items: &[SteadyItem], k: usize) -> usize {
     items.get(k).map_or(0, |s| s.variable)
 }
@@ -1592,6 +1877,7 @@ struct OwnedNames {
     parameters: Vec<String>,
     endogenous: Vec<String>,
     exogenous: Vec<String>,
+    observables: Vec<String>,
 }
 
 impl OwnedNames {
@@ -1600,6 +1886,7 @@ impl OwnedNames {
             parameters: self.parameters.iter().map(String::as_str).collect(),
             endogenous: self.endogenous.iter().map(String::as_str).collect(),
             exogenous: self.exogenous.iter().map(String::as_str).collect(),
+            observables: self.observables.iter().map(String::as_str).collect(),
         }
     }
 }
@@ -1637,3 +1924,6 @@ fn capitalize(s: &str) -> String {
         None => String::new(),
     }
 }
+
+#[cfg(test)]
+mod tests;

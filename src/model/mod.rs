@@ -10,6 +10,7 @@ pub mod calibrate;
 pub mod check;
 pub mod expr;
 pub mod print;
+pub mod timing;
 
 use nalgebra::DMatrix;
 

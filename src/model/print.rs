@@ -4,13 +4,15 @@
 //! trip). Sections come in a fixed order, one item a line, parentheses only where precedence
 //! needs them, numbers in the shortest form that reads back to the same `f64`.
 
-use super::{CovarianceItem, CovarianceKind, Expr, Model, SteadyKind};
+use super::{CovarianceItem, CovarianceKind, Expr, Model, Prior, PriorTarget, SteadyKind};
+use crate::stats::Distribution;
 
 /// Names of a model's declarations, for printing expressions.
 pub struct Names<'a> {
     pub parameters: Vec<&'a str>,
     pub endogenous: Vec<&'a str>,
     pub exogenous: Vec<&'a str>,
+    pub observables: Vec<&'a str>,
 }
 
 impl<'a> Names<'a> {
@@ -19,6 +21,7 @@ impl<'a> Names<'a> {
             parameters: m.parameters.iter().map(|p| p.name.as_str()).collect(),
             endogenous: m.endogenous.iter().map(|v| v.name.as_str()).collect(),
             exogenous: m.exogenous.iter().map(|v| v.name.as_str()).collect(),
+            observables: m.observables.iter().map(|v| v.name.as_str()).collect(),
         }
     }
 }
@@ -183,6 +186,52 @@ pub fn covariance_item_text(item: &CovarianceItem, names: &Names) -> String {
     format!("{lhs} = {}", expr_text(&item.expr, names))
 }
 
+/// A measurement-error item as text, for example `sd(output_growth) = 0.1`.
+pub fn measurement_item_text(item: &CovarianceItem, names: &Names) -> String {
+    let (a, b) = item.shocks;
+    let lhs = match item.kind {
+        CovarianceKind::Sd => format!("sd({})", name(&names.observables, a)),
+        CovarianceKind::Var => format!("var({})", name(&names.observables, a)),
+        CovarianceKind::Corr => format!(
+            "corr({}, {})",
+            name(&names.observables, a),
+            name(&names.observables, b)
+        ),
+    };
+    format!("{lhs} = {}", expr_text(&item.expr, names))
+}
+
+/// A distribution as text in its natural parameters, for example `beta(a = 2, b = 3)`.
+pub fn distribution_text(d: &Distribution) -> String {
+    let n = number_text;
+    match *d {
+        Distribution::Normal { mean, sd } => format!("normal(mean = {}, sd = {})", n(mean), n(sd)),
+        Distribution::Beta { a, b } => format!("beta(a = {}, b = {})", n(a), n(b)),
+        Distribution::Gamma { shape, scale } => {
+            format!("gamma(shape = {}, scale = {})", n(shape), n(scale))
+        }
+        Distribution::InvGamma { shape, scale } => {
+            format!("invgamma(shape = {}, scale = {})", n(shape), n(scale))
+        }
+        Distribution::Uniform { lo, hi } => format!("uniform(lo = {}, hi = {})", n(lo), n(hi)),
+        Distribution::Flat => "flat()".to_string(),
+    }
+}
+
+/// A prior item as text, for example `rho ~ beta(a = 3, b = 2) in [0.1, 0.9]`.
+pub fn prior_text(p: &Prior, names: &Names) -> String {
+    let target = match p.target {
+        PriorTarget::Parameter(i) => name(&names.parameters, i),
+        PriorTarget::ShockSd(i) => format!("sd({})", name(&names.exogenous, i)),
+        PriorTarget::MeasurementSd(i) => format!("sd({})", name(&names.observables, i)),
+    };
+    let mut s = format!("{target} ~ {}", distribution_text(&p.distribution));
+    if let Some((lo, hi)) = p.truncation {
+        s.push_str(&format!(" in [{}, {}]", number_text(lo), number_text(hi)));
+    }
+    s
+}
+
 /// The whole model as canonical model text.
 pub fn print_model(m: &Model) -> String {
     let names = Names::of(m);
@@ -197,7 +246,12 @@ pub fn print_model(m: &Model) -> String {
     out.push_str("endogenous\n");
     for v in &m.endogenous {
         let log = if v.log { "log " } else { "" };
-        out.push_str(&format!("  {log}{}{}\n", v.name, label(&v.label)));
+        let pre = if v.predetermined {
+            "predetermined "
+        } else {
+            ""
+        };
+        out.push_str(&format!("  {log}{pre}{}{}\n", v.name, label(&v.label)));
     }
     if !m.exogenous.is_empty() {
         out.push_str("\nexogenous\n");
@@ -224,10 +278,24 @@ pub fn print_model(m: &Model) -> String {
             .map_or(String::new(), |l| format!("{l}: "));
         out.push_str(&format!("  {l}{}\n", equation_text(m, i)));
     }
-    if !m.covariance_items.is_empty() {
+    if !m.observables.is_empty() {
+        out.push_str("\nobservables\n");
+        for o in &m.observables {
+            out.push_str(&format!(
+                "  {} = {}{}\n",
+                o.name,
+                expr_text(&o.expr, &names),
+                label(&o.label)
+            ));
+        }
+    }
+    if !m.covariance_items.is_empty() || !m.measurement_items.is_empty() {
         out.push_str("\ncovariance\n");
         for item in &m.covariance_items {
             out.push_str(&format!("  {}\n", covariance_item_text(item, &names)));
+        }
+        for item in &m.measurement_items {
+            out.push_str(&format!("  {}\n", measurement_item_text(item, &names)));
         }
     }
     if !m.steady.is_empty() {
@@ -256,6 +324,30 @@ pub fn print_model(m: &Model) -> String {
         }
         if let Some(h) = o.horizon {
             out.push_str(&format!("  horizon = {h}\n"));
+        }
+    }
+    if let Some(obj) = &m.objective {
+        out.push_str("\nobjective\n");
+        out.push_str(&format!("  loss = {}\n", expr_text(&obj.loss, &names)));
+        if let Some(d) = &obj.discount {
+            out.push_str(&format!("  discount = {}\n", expr_text(d, &names)));
+        }
+        for c in &obj.controls {
+            let v = name(&names.endogenous, c.variable);
+            match c
+                .replaces
+                .and_then(|i| m.equations.get(i))
+                .and_then(|e| e.label.as_ref())
+            {
+                Some(l) => out.push_str(&format!("  control {v} replaces {l}\n")),
+                None => out.push_str(&format!("  control {v}\n")),
+            }
+        }
+    }
+    if !m.priors.is_empty() {
+        out.push_str("\npriors\n");
+        for p in &m.priors {
+            out.push_str(&format!("  {}\n", prior_text(p, &names)));
         }
     }
     out
