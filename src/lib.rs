@@ -19,6 +19,7 @@
 
 pub mod analysis;
 pub mod canonical;
+pub mod data;
 pub mod kalman;
 pub mod language;
 pub mod linear;

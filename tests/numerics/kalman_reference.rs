@@ -433,7 +433,6 @@ const NILE: [f64; 100] = [
 // Nile local level, exact diffuse start
 const NILE_LOGLIK: f64 = -633.4645636488784;
 const NILE_LLF_OBS_1: f64 = -0.9189385332046727; // statsmodels' term for t = 1
-const NILE_LLF_OBS_2: f64 = -6.125718128413503;
 const NILE_SMOOTHED: [f64; 100] = [
     1111.6683191267957,
     1110.857664621807,
