@@ -19,6 +19,8 @@
 
 pub mod analysis;
 pub mod canonical;
+pub mod data;
+pub mod kalman;
 pub mod language;
 pub mod linear;
 pub mod model;
