@@ -24,6 +24,7 @@ pub mod linear;
 pub mod model;
 pub mod output;
 pub mod qz;
+pub mod riccati;
 pub mod solution;
 pub mod stats;
 pub mod steady;
