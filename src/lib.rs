@@ -23,6 +23,7 @@ pub mod language;
 pub mod linear;
 pub mod model;
 pub mod output;
+pub mod policy;
 pub mod qz;
 pub mod riccati;
 pub mod solution;

@@ -315,7 +315,11 @@ pub fn solve_dare(
         .chain(rt.iter())
         .chain(st.iter())
         .fold(0.0f64, |acc, v| acc.max(v.abs()));
-    let c = if params.balance { -pow2_exponent(wmax) } else { 0 };
+    let c = if params.balance {
+        -pow2_exponent(wmax)
+    } else {
+        0
+    };
     let cf = 2f64.powi(c);
     qt *= cf;
     rt *= cf;
@@ -336,7 +340,8 @@ pub fn solve_dare(
         ll[(i, i)] = 1.0;
     }
     ll.view_mut((n, n), (n, n)).copy_from(&at.transpose());
-    ll.view_mut((2 * n, n), (m, n)).copy_from(&(-bt.transpose()));
+    ll.view_mut((2 * n, n), (m, n))
+        .copy_from(&(-bt.transpose()));
     let (mc, lc) = if m > 0 {
         let last = mm.columns(2 * n, m).into_owned();
         let qr = last.qr();
@@ -344,7 +349,10 @@ pub fn solve_dare(
         let mut l2 = ll.columns(0, 2 * n).into_owned();
         qr.q_tr_mul(&mut m2);
         qr.q_tr_mul(&mut l2);
-        (m2.rows(m, 2 * n).into_owned(), l2.rows(m, 2 * n).into_owned())
+        (
+            m2.rows(m, 2 * n).into_owned(),
+            l2.rows(m, 2 * n).into_owned(),
+        )
     } else {
         (mm, ll)
     };

@@ -95,14 +95,23 @@ fn random_problems_leave_residuals_at_a_small_multiple_of_eps() {
         let lam: Vec<C64> = sol
             .pencil_roots
             .iter()
-            .map(|(al, be)| if be.norm() > 0.0 { al / be } else { C64::new(f64::INFINITY, 0.0) })
+            .map(|(al, be)| {
+                if be.norm() > 0.0 {
+                    al / be
+                } else {
+                    C64::new(f64::INFINITY, 0.0)
+                }
+            })
             .collect();
         for l in &lam[..n] {
             let best = lam[n..]
                 .iter()
                 .map(|u| (l * u - C64::new(1.0, 0.0)).norm())
                 .fold(f64::INFINITY, f64::min);
-            assert!(best < 1e-8, "n={n}: stable root {l} has no partner 1/lambda ({best:e})");
+            assert!(
+                best < 1e-8,
+                "n={n}: stable root {l} has no partner 1/lambda ({best:e})"
+            );
         }
         // Closed-loop spectrum (undiscounted) inside 1/sqrt(beta).
         for z in &sol.closed_loop_roots {
@@ -202,7 +211,15 @@ fn bad_input_is_refused() {
         Err(DareError::Discount(_))
     ));
     assert!(matches!(
-        solve_dare(&m1(f64::NAN), &one, &one, &one, None, 0.9, &DareParams::default()),
+        solve_dare(
+            &m1(f64::NAN),
+            &one,
+            &one,
+            &one,
+            None,
+            0.9,
+            &DareParams::default()
+        ),
         Err(DareError::NonFinite)
     ));
     assert!(matches!(
