@@ -50,6 +50,11 @@ pub enum Command {
         after_help = "Example:\n  saddle sweep models/harbour.saddle --vary phi_pi=0:3:61 --vary phi_y=0:1:41 --plot map.svg"
     )]
     Sweep(SweepArgs),
+    /// The regimes side by side: expected loss, optimal rules, roots; tuned simple rules.
+    #[command(
+        after_help = "Example:\n  saddle optimize models/harbour_policy.saddle --tune phi_pi=1.01:4"
+    )]
+    Optimize(OptimizeArgs),
 }
 
 #[derive(Debug, Clone, Copy, PartialEq, Eq, ValueEnum)]
@@ -108,6 +113,32 @@ pub struct SolveOptionArgs {
     /// Print the time of each phase to stderr.
     #[arg(long)]
     pub timings: bool,
+    /// Policy regime: the model as written (rule), or the optimal policy of its objective
+    /// (commitment: timeless perspective; discretion: Markov-perfect).
+    #[arg(long, value_enum, default_value_t = RegimeArg::Rule)]
+    pub regime: RegimeArg,
+}
+
+#[derive(Debug, Clone, Copy, PartialEq, Eq, ValueEnum)]
+pub enum RegimeArg {
+    Rule,
+    Commitment,
+    Discretion,
+}
+
+#[derive(Debug, Args)]
+pub struct OptimizeArgs {
+    pub file: PathBuf,
+    #[command(flatten)]
+    pub solve: SolveOptionArgs,
+    /// Search the simple rule's parameter NAME in [LO, HI] for the least expected loss
+    /// (repeatable).
+    #[arg(long, value_name = "NAME=LO:HI")]
+    pub tune: Vec<String>,
+    #[arg(long, value_enum, default_value_t = Format::Text)]
+    pub format: Format,
+    #[command(flatten)]
+    pub out: OutputArgs,
 }
 
 #[derive(Debug, Args)]

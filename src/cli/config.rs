@@ -23,6 +23,8 @@ pub struct SolveSettings {
     /// Roots on the boundary count as stable (spec §7 default) unless `--boundary-unstable`.
     pub boundary_stable: bool,
     pub timings: bool,
+    /// `--regime` (default rule).
+    pub regime: saddle::policy::Regime,
 }
 
 impl SolveSettings {
@@ -56,6 +58,11 @@ impl SolveSettings {
             threshold,
             boundary_stable: !a.boundary_unstable,
             timings: a.timings,
+            regime: match a.regime {
+                super::args::RegimeArg::Rule => saddle::policy::Regime::Rule,
+                super::args::RegimeArg::Commitment => saddle::policy::Regime::Commitment,
+                super::args::RegimeArg::Discretion => saddle::policy::Regime::Discretion,
+            },
         })
     }
 }

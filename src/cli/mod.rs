@@ -11,6 +11,7 @@ mod check;
 mod irf;
 mod load;
 mod moments;
+mod optimize;
 mod report;
 mod simulate;
 mod solve;
@@ -73,6 +74,7 @@ pub fn run(cli: Cli) -> ExitCode {
         Command::Simulate(a) => simulate::run(a),
         Command::Report(a) => report::run(a),
         Command::Sweep(a) => sweep::run(a),
+        Command::Optimize(a) => optimize::run(a),
     };
     let outcome = match result {
         Ok(outcome) => outcome,

@@ -12,6 +12,7 @@ use super::output::{emit, eprintln_quiet};
 use super::{Failure, Outcome};
 use saddle::model::Model;
 use saddle::output::solve as render;
+use saddle::policy::{rule_expected_loss, solve_regime, PolicyError, PolicyParams, Regime};
 use saddle::solution::{
     PreparedModel, SolveError, SolveOptions, SolvedModel, ThresholdSetting, Timings,
 };
@@ -22,6 +23,32 @@ pub struct Solved {
     pub solved: SolvedModel,
     pub timings: Timings,
     pub load_time: Duration,
+    /// Regime, expected loss and multipliers (`None` for a model without objective solved by
+    /// its rules).
+    pub policy: Option<PolicyInfo>,
+}
+
+/// What an optimal-policy regime adds to a solve.
+pub struct PolicyInfo {
+    pub regime: Regime,
+    pub expected_loss: Option<f64>,
+    pub multipliers: Vec<String>,
+}
+
+/// Maps a policy failure to the exit statuses of cli.md: a problem of the objective is a model
+/// error (1), an explosive discretionary equilibrium is no stable solution (3), the rest
+/// numerical (4).
+pub fn policy_failure(e: PolicyError) -> Failure {
+    match e {
+        PolicyError::Solve(e) => failure(e),
+        PolicyError::DiscretionUnstable { .. } => {
+            Failure::new(Outcome::NoUniqueSolution, e.to_string())
+        }
+        PolicyError::DiscretionNoConvergence { .. } | PolicyError::DiscretionSingular(_) => {
+            Failure::numerical(e.to_string())
+        }
+        other => Failure::new(Outcome::ModelError, other.to_string()),
+    }
 }
 
 /// The library's options for validated command-line settings.
@@ -68,15 +95,51 @@ pub fn load_and_solve(file: &Path, settings: &SolveSettings) -> Result<Solved, F
     let (model, _source) = load_model(file)?;
     let model = apply_overrides(model, &settings.overrides)?;
     let load_time = t0.elapsed();
+    if settings.regime != Regime::Rule {
+        let t1 = Instant::now();
+        let r = solve_regime(
+            &model,
+            settings.regime,
+            &options(settings),
+            &PolicyParams::default(),
+        )
+        .map_err(policy_failure)?;
+        // The optimal regimes run their own pipeline; its whole time is reported as `solution`.
+        let timings = Timings {
+            solution: t1.elapsed(),
+            ..Timings::default()
+        };
+        return Ok(Solved {
+            model: r.model,
+            solved: r.solved,
+            timings,
+            load_time,
+            policy: Some(PolicyInfo {
+                regime: r.regime,
+                expected_loss: r.expected_loss,
+                multipliers: r.multipliers,
+            }),
+        });
+    }
     let prepared = PreparedModel::new(&model).map_err(failure)?;
     let (solved, timings) = prepared
         .solve(&model, &options(settings))
         .map_err(failure)?;
+    let policy = if model.objective.is_some() {
+        Some(PolicyInfo {
+            regime: Regime::Rule,
+            expected_loss: rule_expected_loss(&model, &solved).map_err(policy_failure)?,
+            multipliers: vec![],
+        })
+    } else {
+        None
+    };
     Ok(Solved {
         model,
         solved,
         timings,
         load_time,
+        policy,
     })
 }
 
@@ -103,8 +166,26 @@ pub fn run(args: SolveArgs) -> Result<Outcome, Failure> {
     let s = load_and_solve(&args.file, &settings)?;
     let t0 = Instant::now();
     let text = match args.format {
-        Format::Text => render::text(&s.solved),
-        Format::Json => render::json(&s.solved),
+        Format::Text => {
+            let mut t = render::text(&s.solved);
+            if let Some(p) = &s.policy {
+                t.push_str(&saddle::output::policy::solve_text_note(
+                    p.regime,
+                    p.expected_loss,
+                    &p.multipliers,
+                ));
+            }
+            t
+        }
+        Format::Json => match &s.policy {
+            Some(p) => saddle::output::policy::solve_json(
+                &s.solved,
+                p.regime,
+                p.expected_loss,
+                &p.multipliers,
+            ),
+            None => render::json(&s.solved),
+        },
         Format::Csv => render::csv(&s.solved),
     };
     emit(args.out.output.as_deref(), text.as_bytes())?;

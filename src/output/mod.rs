@@ -6,6 +6,7 @@ pub mod csv;
 pub mod irf;
 pub mod moments;
 pub mod ordered_json;
+pub mod policy;
 pub mod report;
 pub mod simulate;
 pub mod solve;
