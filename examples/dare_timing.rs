@@ -38,7 +38,11 @@ fn read_problem(path: &str) -> Result<Problem, String> {
     let n = next("n")?;
     let m = next("m")?;
     let beta = next("beta")?;
-    if !(n >= 1.0 && n <= 5000.0 && m >= 1.0 && m <= n && n.fract() == 0.0 && m.fract() == 0.0) {
+    if !((1.0..=5000.0).contains(&n)
+        && (1.0..=n).contains(&m)
+        && n.fract() == 0.0
+        && m.fract() == 0.0)
+    {
         return Err(format!("{path}: bad sizes n = {n}, m = {m}"));
     }
     let (n, m) = (n as usize, m as usize);

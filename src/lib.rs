@@ -17,6 +17,10 @@
 //!
 //! See `docs/architecture.md` for the code map and the invariants.
 
+// Numerical kernels: `!(x > 0.0)` is deliberate (it is true for NaN, which must be refused), and
+// index loops over several matrices at once read closer to the formulas than iterator chains.
+#![allow(clippy::neg_cmp_op_on_partial_ord, clippy::needless_range_loop)]
+
 pub mod analysis;
 pub mod canonical;
 pub mod data;

@@ -42,10 +42,8 @@ pub fn end_of_period(model: &Model) -> Cow<'_, Model> {
 /// [`super::MAX_EXPR_DEPTH`]).
 fn shift(e: &mut Expr, shifted: &[bool]) {
     match e {
-        Expr::Variable { index, offset } => {
-            if shifted.get(*index).copied().unwrap_or(false) {
-                *offset -= 1;
-            }
+        Expr::Variable { index, offset } if shifted.get(*index).copied().unwrap_or(false) => {
+            *offset -= 1;
         }
         Expr::Neg(a) | Expr::Call(_, a) => shift(a, shifted),
         Expr::Binary(_, a, b) | Expr::Call2(_, a, b) => {
