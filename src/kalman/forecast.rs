@@ -69,7 +69,7 @@ pub fn forecast(
 /// Forecasts given the data `y` (N x p) and the conditions `fixed` (H x p: the value of
 /// observable j in period N+h, NaN where free); see the module doc. Reads its inputs; returns
 /// the conditional means and covariances for h = 1..=H.
-pub fn conditional_forecast(
+pub fn forecast_given_path(
     model: &StateSpaceModel,
     y: &DMatrix<f64>,
     fixed: &DMatrix<f64>,

@@ -59,7 +59,7 @@ use crate::analysis::lyapunov::LyapunovError;
 
 pub use fast::loglik;
 pub use filter::{filter, FilterOutput};
-pub use forecast::{conditional_forecast, forecast, Forecast};
+pub use forecast::{forecast, forecast_given_path, Forecast};
 pub use init::{initial_state, InitialState};
 pub use observation::{model_state_space, ModelStateSpace, ObservationError};
 pub use smoother::{decompose, smooth, Decomposition, Smoothed};

@@ -235,7 +235,7 @@ fn forecasts_match_the_stacked_sample() {
     }
     // No conditions: the conditional forecast is the unconditional one.
     let free = DMatrix::from_element(h, 2, f64::NAN);
-    let c0 = conditional_forecast(&model, &y, &free, &params).unwrap();
+    let c0 = forecast_given_path(&model, &y, &free, &params).unwrap();
     for i in 0..h {
         assert!(relv(&c0.obs_mean[i], &fc.obs_mean[i]) < TOL);
         assert!(rel(&c0.obs_var[i], &fc.obs_var[i]) < TOL);
@@ -246,7 +246,7 @@ fn forecasts_match_the_stacked_sample() {
     fixed[(1, 0)] = -0.5;
     ext.view_mut((10, 0), (h, 2)).copy_from(&fixed);
     let st = stacked(&model, &ext, &init.p_star);
-    let c = conditional_forecast(&model, &y, &fixed, &params).unwrap();
+    let c = forecast_given_path(&model, &y, &fixed, &params).unwrap();
     for i in 0..h {
         assert!(
             relv(&c.state_mean[i], &st.mean[11 + i]) < TOL,
