@@ -7,6 +7,9 @@
 //! the ordinary timing the solver knows (a lead means an expectation, a lag a state), and x_t is
 //! its state x'_{t-1}: the solver reports it that way (see `solution::stocks`). Observables and
 //! the loss keep the timing as written.
+//!
+//! A `predetermined` variable that never appears with a lead is left as it is: the marker says
+//! nothing there (spec §8), and [`idle_markers`] names such variables for a hint.
 
 use std::borrow::Cow;
 
@@ -16,26 +19,48 @@ use super::{Expr, Model};
 /// no variable is predetermined). Overwrites nothing; returns the rewritten model, whose
 /// `max_lead` and `max_lag` follow the new offsets.
 pub fn end_of_period(model: &Model) -> Cow<'_, Model> {
-    if !model.endogenous.iter().any(|v| v.predetermined) {
+    let shifted = stocks(model);
+    if !shifted.iter().any(|&s| s) {
         return Cow::Borrowed(model);
     }
-    let shifted: Vec<bool> = model.endogenous.iter().map(|v| v.predetermined).collect();
     let mut m = model.clone();
     for eq in &mut m.equations {
         shift(&mut eq.lhs, &shifted);
         shift(&mut eq.rhs, &shifted);
     }
-    for v in &mut m.endogenous {
-        if v.predetermined {
+    for (v, &s) in m.endogenous.iter_mut().zip(&shifted) {
+        v.predetermined = false;
+        if s {
             // Offsets k in [-max_lag, max_lead] become k - 1.
             let lead = v.max_lead as i64 - 1;
             let lag = v.max_lag as i64 + 1;
             v.max_lead = lead.max(0) as u32;
             v.max_lag = lag as u32;
-            v.predetermined = false;
         }
     }
     Cow::Owned(m)
+}
+
+/// Per variable: declared `predetermined` and written with a lead somewhere in the equations, so
+/// that [`end_of_period`] moves its offsets.
+pub fn stocks(model: &Model) -> Vec<bool> {
+    model
+        .endogenous
+        .iter()
+        .map(|v| v.predetermined && v.max_lead > 0)
+        .collect()
+}
+
+/// Indices of the variables declared `predetermined` that never appear with a lead (the marker
+/// does nothing there).
+pub fn idle_markers(model: &Model) -> Vec<usize> {
+    model
+        .endogenous
+        .iter()
+        .enumerate()
+        .filter(|(_, v)| v.predetermined && v.max_lead == 0)
+        .map(|(i, _)| i)
+        .collect()
 }
 
 /// Moves offsets of the `shifted` variables back one period in `e` (recursive; depth bounded by

@@ -10,6 +10,8 @@
 use super::solve::INFINITE_MODULUS;
 use super::{Counts, Root, Status};
 use crate::canonical::Pencil;
+use crate::linear::LinearSystem;
+use crate::model::{Expr, Model};
 use crate::qz::GeneralizedSchur;
 
 /// How many roots near the threshold a diagnosis lists.
@@ -20,6 +22,9 @@ const LOADING_NAMES: usize = 3;
 const LOADING_MIN_SHARE: f64 = 0.05;
 /// Roots whose moduli agree to this relative tolerance are reordered together (a complex pair).
 const SAME_MODULUS: f64 = 1e-9;
+/// An accumulation law x[t+1] = a x[t] + ... is read as one when |a| <= 1 + this (relative to
+/// one: the coefficients' ratio is scale-free); the slack only absorbs rounding of a = 1.
+const STOCK_RATIO_TOL: f64 = 1e-9;
 
 fn plural(n: usize, one: &str, many: &str) -> String {
     format!("{n} {}", if n == 1 { one } else { many })
@@ -215,7 +220,7 @@ pub fn count_failure(
                 })
                 .unwrap_or_default();
             format!(
-                "Indeterminate: {head}, {} too few, so many stable solutions exist (self-fulfilling fluctuations are possible). {near}{load} A policy rule that reacts more strongly (for example to inflation) or a threshold set with --discount/--threshold may restore determinacy.",
+                "Indeterminate: {head}, {} too few, so many stable solutions exist (self-fulfilling fluctuations are possible). {near}{load}",
                 f - u
             )
         }
@@ -249,4 +254,159 @@ pub fn rank_failure(counts: &Counts, sigma: f64, tau: f64) -> String {
         super::threshold::show(tau),
         plural(counts.forward_looking, "forward-looking variable", "forward-looking variables")
     )
+}
+
+/// Advice for an indeterminate model, fitted to what the model has (none that does not fit:
+/// no policy-rule hint in a model without a rule). `excess` is the number of surplus stable
+/// roots. Returns sentences to append to the diagnosis.
+///
+/// - Stocks written with a lead: a variable not marked `predetermined` that appears only at t
+///   and t+1, both in one equation (an accumulation law like `k[t+1] = (1 - delta) * k + inv`), is
+///   read as forward-looking; when there are at most `excess` such variables they are named with
+///   a pointer to the marker (spec §8).
+/// - A rule: the equation an `objective` control replaces, or an equation whose label contains
+///   `rule` or `policy`, is named as the place where a stronger reaction may restore determinacy.
+pub fn indeterminacy_advice(model: &Model, linear: &LinearSystem, excess: usize) -> Vec<String> {
+    let mut advice = Vec::new();
+    let stocks = stock_like(model, linear);
+    if !stocks.is_empty() && stocks.len() <= excess.max(1) {
+        let names: Vec<&str> = stocks
+            .iter()
+            .filter_map(|&i| model.endogenous.get(i).map(|v| v.name.as_str()))
+            .collect();
+        let (they, are) = if names.len() == 1 { ("it is", "is") } else { ("they are", "are") };
+        advice.push(format!(
+            "{} {are} written like a stock at the start of the period (only at t and t+1, in an accumulation law) and so {are} read as forward-looking; if {they} known one period ahead, declare {} `predetermined` in `endogenous`.",
+            names.join(", "),
+            if names.len() == 1 { "it" } else { "them" }
+        ));
+    }
+    let mut rules: Vec<&str> = Vec::new();
+    if let Some(obj) = &model.objective {
+        for c in &obj.controls {
+            if let Some(label) = c.replaces.and_then(|e| model.equations.get(e)).and_then(|e| e.label.as_deref()) {
+                rules.push(label);
+            }
+        }
+    }
+    for eq in &model.equations {
+        if let Some(label) = eq.label.as_deref() {
+            let lower = label.to_lowercase();
+            if (lower.contains("rule") || lower.contains("policy")) && !rules.contains(&label) {
+                rules.push(label);
+            }
+        }
+    }
+    if !rules.is_empty() {
+        advice.push(format!(
+            "A rule that reacts more strongly (see {}) may restore determinacy.",
+            rules
+                .iter()
+                .map(|l| format!("`{l}`"))
+                .collect::<Vec<_>>()
+                .join(", ")
+        ));
+    }
+    advice
+}
+
+/// Variables not marked `predetermined` that look like stocks written with a lead: they appear
+/// only at t and t+1 in the whole model, and some equation is an accumulation law for them: its
+/// only lead is x[t+1], as a term of a sum on its own (times parameters at most, as in
+/// `k[t+1] = (1 - delta) * k + inv`), and x[t] appears in it too. A forward-looking equation such
+/// as `gap = gap[t+1] - (rate - infl[t+1]) / sigma` has another lead and is not one; an Euler
+/// equation has its lead inside a nonlinear term and is not one. Read backwards, an accumulation
+/// law does not explode: x[t+1] = a x[t] + ... with |a| <= 1 in the linearized equation, which
+/// tells it from a forward-looking `infl = beta * infl[t+1] + ...` (|a| = 1/beta > 1).
+fn stock_like(model: &Model, linear: &LinearSystem) -> Vec<usize> {
+    let n = model.endogenous.len();
+    let mut simple = vec![true; n]; // only offsets 0 and +1 anywhere
+    for eq in &model.equations {
+        for side in [&eq.lhs, &eq.rhs] {
+            side.walk(&mut |e| {
+                if let Expr::Variable { index, offset } = e {
+                    if !(0..=1).contains(offset) {
+                        if let Some(s) = simple.get_mut(*index) {
+                            *s = false;
+                        }
+                    }
+                }
+            });
+        }
+    }
+    let mut found = vec![false; n];
+    for (r, eq) in model.equations.iter().enumerate() {
+        let mut leads = Vec::new();
+        let mut now = vec![false; n];
+        for side in [&eq.lhs, &eq.rhs] {
+            side.walk(&mut |e| {
+                if let Expr::Variable { index, offset } = e {
+                    if *offset > 0 {
+                        leads.push(*index);
+                    } else if *offset == 0 {
+                        if let Some(x) = now.get_mut(*index) {
+                            *x = true;
+                        }
+                    }
+                }
+            });
+        }
+        leads.sort_unstable();
+        leads.dedup();
+        let [x] = leads[..] else { continue };
+        if x >= n || !simple[x] || !now[x] {
+            continue;
+        }
+        let mut terms = Vec::new();
+        additive_terms(&eq.lhs, &mut terms, 0);
+        additive_terms(&eq.rhs, &mut terms, 0);
+        if terms.iter().any(|t| is_scaled_lead(t, x)) {
+            let coefficient = |offset: i32| -> f64 {
+                linear
+                    .variable_terms
+                    .iter()
+                    .filter(|t| t.equation == r && t.variable == x && t.offset == offset)
+                    .map(|t| t.value)
+                    .sum()
+            };
+            let (now, next) = (coefficient(0), coefficient(1));
+            if next != 0.0 && (now / next).abs() <= 1.0 + STOCK_RATIO_TOL {
+                found[x] = true;
+            }
+        }
+    }
+    (0..n)
+        .filter(|&i| found[i] && !model.endogenous[i].predetermined)
+        .collect()
+}
+
+/// Collects the terms of the sum `e` (through `+`, `-` and negation) into `out`; `depth` bounds
+/// the recursion with the model's own expression limit.
+fn additive_terms<'a>(e: &'a Expr, out: &mut Vec<&'a Expr>, depth: usize) {
+    if depth > crate::model::MAX_EXPR_DEPTH {
+        return;
+    }
+    match e {
+        Expr::Binary(crate::model::BinaryOp::Add | crate::model::BinaryOp::Sub, a, b) => {
+            additive_terms(a, out, depth + 1);
+            additive_terms(b, out, depth + 1);
+        }
+        Expr::Neg(a) => additive_terms(a, out, depth + 1),
+        _ => out.push(e),
+    }
+}
+
+/// `term` is x[t+1] times or divided by an expression of parameters and numbers only.
+fn is_scaled_lead(term: &Expr, x: usize) -> bool {
+    let mut leads = 0;
+    let mut other = false;
+    term.walk(&mut |e| match e {
+        Expr::Variable { index, offset } if *index == x && *offset == 1 => leads += 1,
+        Expr::Variable { .. } | Expr::Innovation { .. } | Expr::SteadyState(_) => other = true,
+        Expr::Call(..) | Expr::Call2(..) | Expr::Binary(crate::model::BinaryOp::Pow, ..) => {
+            other = true
+        }
+        _ => {}
+    });
+    leads == 1 && !other
 }

@@ -102,6 +102,7 @@ pub struct SolvedModel {
 pub mod check;
 mod diagnosis;
 pub mod solve;
+mod stocks;
 pub mod threshold;
 
 pub use diagnosis::describe_root;

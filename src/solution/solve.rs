@@ -29,7 +29,7 @@ use crate::canonical::{
 };
 use crate::linear::balance::{scaled, Scaling};
 use crate::linear::{linearize, LinearError, LinearSystem};
-use crate::model::Model;
+use crate::model::{timing, Model};
 use crate::qz::{GeneralizedSchur, QzError, C64};
 use crate::steady::{solve_steady, SteadyError};
 use crate::symbolic::CompiledModel;
@@ -176,6 +176,8 @@ pub struct PreparedModel {
     n_shocks: usize,
     static_treatment: StaticTreatment,
     derivative_time: Duration,
+    /// Per variable: a `predetermined` stock solved in end-of-period timing (`model::timing`).
+    stocks: Vec<bool>,
 }
 
 /// The intermediate results of one solve, for tests, benchmarks and the curious.
@@ -195,9 +197,12 @@ impl PreparedModel {
     /// Differentiates and compiles `model` and lays out its canonical form.
     pub fn new(model: &Model) -> Result<PreparedModel, SolveError> {
         let start = Instant::now();
+        let stocks = timing::stocks(model);
+        let model = &*timing::end_of_period(model);
         let compiled = CompiledModel::new(model);
         let layout = Layout::new(model, &compiled);
         Ok(PreparedModel {
+            stocks,
             compiled,
             layout,
             n_parameters: model.parameters.len(),
@@ -240,6 +245,8 @@ impl PreparedModel {
         model: &Model,
         options: &SolveOptions,
     ) -> Result<SolveDetails, SolveError> {
+        let written = model;
+        let model = &*timing::end_of_period(model);
         if model.parameters.len() != self.n_parameters
             || model.endogenous.len() != self.n_variables
             || model.exogenous.len() != self.n_shocks
@@ -302,6 +309,12 @@ impl PreparedModel {
         timings.canonical_form = t0.elapsed();
 
         let mut warnings = steady.notes.clone();
+        for i in timing::idle_markers(written) {
+            warnings.push(format!(
+                "{} is declared predetermined but never appears with a lead, so the marker changes nothing",
+                written.endogenous[i].name
+            ));
+        }
         warnings.extend(super::threshold::below_one_warning(tau));
         warnings.extend(linear.warnings.iter().cloned());
         if pencil.statics_kept_for_rank {
@@ -404,7 +417,13 @@ impl PreparedModel {
                         ));
                     }
                     max_residual = Some(resid);
-                    solution = Some(space);
+                    let names = written.variable_names();
+                    solution = Some(super::stocks::to_start_of_period(
+                        space,
+                        &self.stocks,
+                        &self.layout,
+                        &names,
+                    ));
                 }
                 RuleOutcome::RankFailure { sigma } => {
                     status = Status::RankFailure;
@@ -422,6 +441,13 @@ impl PreparedModel {
                 &pencil
             };
             let mut text = diagnosis::count_failure(status, &counts, &roots, tau, for_diagnosis);
+            if status == Status::Indeterminate {
+                let excess = counts.forward_looking.saturating_sub(counts.unstable);
+                for sentence in diagnosis::indeterminacy_advice(written, &linear, excess) {
+                    text.push(' ');
+                    text.push_str(&sentence);
+                }
+            }
             if let Some(hint) = super::threshold::discount_hint(model, &roots, tau) {
                 text.push(' ');
                 text.push_str(&hint);

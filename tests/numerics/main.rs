@@ -21,3 +21,4 @@ mod qz_stress;
 mod solve_external;
 mod solve_props;
 mod solve_scaling;
+mod solve_stocks;
