@@ -167,6 +167,11 @@ pub fn render(diags: &[Diagnostic], file_name: &str, source: &str, colour: Colou
     let mut out = String::new();
     for d in diags {
         let d = d.clone().visible_in(source);
+        if !drawable(&d, source) {
+            out.push_str(&render_plain(&d, file_name, source));
+            out.push('\n');
+            continue;
+        }
         let report = miette::Report::new(d).with_source_code(named.clone());
         let mut one = String::new();
         if handler.render_report(&mut one, report.as_ref()).is_err() {
@@ -174,6 +179,118 @@ pub fn render(diags: &[Diagnostic], file_name: &str, source: &str, colour: Colou
         }
         out.push_str(&one);
         out.push('\n');
+    }
+    out
+}
+
+/// Widest source line (in display columns, a tab counted as [`TAB_COLUMNS`]) that a report draws
+/// with the graphical renderer; a diagnostic on a wider line is printed in the plain form of
+/// [`render_plain`]. The renderer cannot draw beyond display column 65,535 (it panics there), and
+/// a line thousands of columns wide helps nobody anyway.
+pub const MAX_DRAWN_LINE: usize = 500;
+/// Display columns a tab may take, counted at its widest.
+const TAB_COLUMNS: usize = 8;
+/// Characters of source shown on each side of the span in the plain form.
+const PLAIN_CONTEXT: usize = 40;
+
+/// Whether every line that `d` points into is narrow enough to draw.
+fn drawable(d: &Diagnostic, source: &str) -> bool {
+    std::iter::once(d.span)
+        .chain(d.labels.iter().map(|l| l.span))
+        .all(|span| line_width(source, span) <= MAX_DRAWN_LINE)
+}
+
+/// Display width of the lines `span` touches: the widest of them, counting every character from
+/// the start of its first line to the end of its last.
+fn line_width(source: &str, span: Span) -> usize {
+    let start = span.start.min(source.len());
+    let end = span.end.clamp(start, source.len());
+    let bytes = source.as_bytes();
+    let line_start = bytes[..start]
+        .iter()
+        .rposition(|&b| b == b'\n')
+        .map_or(0, |i| i + 1);
+    let line_end = bytes[end..]
+        .iter()
+        .position(|&b| b == b'\n')
+        .map_or(source.len(), |i| end + i);
+    let mut widest = 0;
+    let mut width = 0;
+    for c in source.get(line_start..line_end).unwrap_or("").chars() {
+        match c {
+            '\n' => width = 0,
+            '\t' => width += TAB_COLUMNS,
+            _ => width += 1,
+        }
+        widest = widest.max(width);
+    }
+    widest
+}
+
+/// The plain form of a report: a header with the position, a bounded excerpt of the line around
+/// the span (control characters shown as `?`), the label and the help. Returns the text.
+fn render_plain(d: &Diagnostic, file_name: &str, source: &str) -> String {
+    let kind = match d.severity {
+        Severity::Error => "error",
+        Severity::Warning => "warning",
+    };
+    let (line, col) = super::span::line_col(source, d.span.start);
+    let mut out = format!(
+        "{kind}[{}]: {}\n  at {file_name}:{line}:{col}\n",
+        d.code, d.message
+    );
+    let start = d.span.start.min(source.len());
+    let end = d.span.end.clamp(start, source.len());
+    let before: String = source
+        .get(..start)
+        .unwrap_or("")
+        .chars()
+        .rev()
+        .take_while(|&c| c != '\n')
+        .take(PLAIN_CONTEXT)
+        .collect::<Vec<_>>()
+        .into_iter()
+        .rev()
+        .collect();
+    let inside: String = source
+        .get(start..end)
+        .unwrap_or("")
+        .chars()
+        .take(PLAIN_CONTEXT)
+        .collect();
+    let after: String = source
+        .get(end..)
+        .unwrap_or("")
+        .chars()
+        .take_while(|&c| c != '\n')
+        .take(PLAIN_CONTEXT)
+        .collect();
+    let clean = |s: &str| -> String {
+        s.chars()
+            .map(|c| if c.is_control() { ' ' } else { c })
+            .collect()
+    };
+    out.push_str(&format!(
+        "  | ...{}{}{}...\n",
+        clean(&before),
+        clean(&inside),
+        clean(&after)
+    ));
+    // The excerpt line opens with `  | ...` (7 columns).
+    let pad = 7 + before.chars().count();
+    let marks = inside.chars().count().max(1);
+    out.push_str(&format!(
+        "{}{} {}\n",
+        " ".repeat(pad),
+        "^".repeat(marks),
+        d.label
+    ));
+    for l in &d.labels {
+        let (line, col) = super::span::line_col(source, l.span.start);
+        out.push_str(&format!("  note at {line}:{col}: {}\n", l.text));
+    }
+    if let Some(h) = &d.help {
+        out.push_str(&format!("  help: {h}\n"));
     }
     out
 }

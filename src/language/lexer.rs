@@ -27,6 +27,10 @@ pub const MAX_BRACKET_DEPTH: usize = 256;
 /// Most tokens in one statement. A long equation has a few hundred; the limit bounds the parser's
 /// stack for hostile input such as a million unary minus signs on one line.
 pub const MAX_STATEMENT_TOKENS: usize = 100_000;
+/// Longest name, in characters. No model needs more, and every table that prints a name pads its
+/// column to the longest one: an unbounded name would make unbounded lines (and the formatter
+/// refuses widths beyond 65,535).
+pub const MAX_NAME_CHARS: usize = 255;
 
 /// Raw tokens as logos sees them, before the line rules.
 #[derive(Logos, Debug, Clone, Copy, PartialEq, Eq)]
@@ -614,6 +618,30 @@ impl<'a> Lexer<'a> {
             }
             let tok = match raw {
                 Raw::Newline => continue,
+                Raw::Word
+                    if text.len() > MAX_NAME_CHARS && text.chars().count() > MAX_NAME_CHARS =>
+                {
+                    self.diagnostics.push(
+                        Diagnostic::error(
+                            "name-too-long",
+                            format!(
+                                "a name of {} characters, above the limit of {MAX_NAME_CHARS}",
+                                text.chars().count()
+                            ),
+                            Span::new(
+                                span.start,
+                                span.start
+                                    + text.chars().take(16).map(char::len_utf8).sum::<usize>(),
+                            ),
+                            "this name",
+                        )
+                        .with_help(
+                            "use a shorter name; a label in quotes may carry the description",
+                        ),
+                    );
+                    self.invalidate(span.start);
+                    continue;
+                }
                 Raw::Word => keyword(text).unwrap_or(Tok::Ident(text)),
                 Raw::Number => Tok::Number(text),
                 Raw::Str => self.string(span, true),

@@ -274,7 +274,11 @@ pub fn indeterminacy_advice(model: &Model, linear: &LinearSystem, excess: usize)
             .iter()
             .filter_map(|&i| model.endogenous.get(i).map(|v| v.name.as_str()))
             .collect();
-        let (they, are) = if names.len() == 1 { ("it is", "is") } else { ("they are", "are") };
+        let (they, are) = if names.len() == 1 {
+            ("it is", "is")
+        } else {
+            ("they are", "are")
+        };
         advice.push(format!(
             "{} {are} written like a stock at the start of the period (only at t and t+1, in an accumulation law) and so {are} read as forward-looking; if {they} known one period ahead, declare {} `predetermined` in `endogenous`.",
             names.join(", "),
@@ -284,7 +288,11 @@ pub fn indeterminacy_advice(model: &Model, linear: &LinearSystem, excess: usize)
     let mut rules: Vec<&str> = Vec::new();
     if let Some(obj) = &model.objective {
         for c in &obj.controls {
-            if let Some(label) = c.replaces.and_then(|e| model.equations.get(e)).and_then(|e| e.label.as_deref()) {
+            if let Some(label) = c
+                .replaces
+                .and_then(|e| model.equations.get(e))
+                .and_then(|e| e.label.as_deref())
+            {
                 rules.push(label);
             }
         }

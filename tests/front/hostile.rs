@@ -113,6 +113,32 @@ fn hostile_files_through_the_binary() {
             format!("{HEAD}{}1\n", "1+".repeat(2_500_000)).into_bytes(),
             "line is 5000",
         ),
+        // The graphical renderer cannot draw beyond display column 65,535: these used to panic
+        // (an error far along a line, after 16,384 tabs, and a 65,536-character name printed in
+        // a padded table by `solve`).
+        (
+            "far.saddle",
+            format!("{HEAD}{}zz\n", " ".repeat(70_000)).into_bytes(),
+            "unknown name `zz`",
+        ),
+        (
+            "tabs.saddle",
+            format!(
+                "endogenous\n  x\nequations\n{}  x = zz\n",
+                "\t".repeat(16_384)
+            )
+            .into_bytes(),
+            "unknown name `zz`",
+        ),
+        (
+            "name.saddle",
+            format!(
+                "endogenous\n  {n}\nexogenous\n  e\nequations\n  {n} = 0.5 * {n}[t-1] + e\n",
+                n = "a".repeat(65_536)
+            )
+            .into_bytes(),
+            "above the limit of 255",
+        ),
         (
             "random.bin",
             (0..4096u32)
@@ -125,17 +151,19 @@ fn hostile_files_through_the_binary() {
         let p = dir.path().join(name);
         std::fs::write(&p, bytes).unwrap();
         let started = Instant::now();
-        let out = Command::new(env!("CARGO_BIN_EXE_saddle"))
-            .arg("check")
-            .arg(&p)
-            .env("NO_COLOR", "1")
-            .output()
-            .unwrap();
-        assert!(started.elapsed() < QUICK, "{name}: {:?}", started.elapsed());
-        assert_eq!(out.status.code(), Some(1), "{name}");
-        let err = String::from_utf8_lossy(&out.stderr);
-        assert!(err.contains(expect), "{name}: {err}");
-        assert!(!err.contains("panicked"), "{name}: {err}");
+        for command in ["check", "solve"] {
+            let out = Command::new(env!("CARGO_BIN_EXE_saddle"))
+                .arg(command)
+                .arg(&p)
+                .env("NO_COLOR", "1")
+                .output()
+                .unwrap();
+            assert!(started.elapsed() < QUICK, "{name}: {:?}", started.elapsed());
+            assert_eq!(out.status.code(), Some(1), "{name} {command}");
+            let err = String::from_utf8_lossy(&out.stderr);
+            assert!(err.contains(expect), "{name} {command}: {err}");
+            assert!(!err.contains("panicked"), "{name} {command}: {err}");
+        }
     }
 }
 
