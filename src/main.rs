@@ -10,5 +10,6 @@ use clap::Parser;
 
 fn main() -> ExitCode {
     let args = cli::args::Cli::parse();
+    cli::output::install_interrupt_cleanup();
     cli::run(args)
 }

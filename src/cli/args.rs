@@ -223,7 +223,7 @@ pub struct SimulateArgs {
     /// Also draw the simulated paths as an SVG grid of panels.
     #[arg(long, value_name = "PATH.svg")]
     pub plot: Option<PathBuf>,
-    #[arg(long, value_enum, default_value_t = Format::Csv)]
+    #[arg(long, value_enum, default_value_t = Format::Text)]
     pub format: Format,
     #[command(flatten)]
     pub out: OutputArgs,

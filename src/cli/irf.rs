@@ -9,8 +9,8 @@ use super::output::{emit, eprintln_quiet, write_atomic};
 use super::solve::{load_and_solve, outcome, print_timings};
 use super::{Failure, Outcome};
 use saddle::analysis::irf::{impulse_responses, ImpulseSize};
+use saddle::output::irf as render;
 use saddle::output::svg::charts;
-use saddle::output::{irf as render, solve as render_solve};
 
 /// Default horizon when neither `--horizon` nor the file's options give one (cli.md).
 pub const DEFAULT_HORIZON: u32 = 40;
@@ -58,36 +58,18 @@ pub fn run(args: IrfArgs) -> Result<Outcome, Failure> {
     };
     let t0 = Instant::now();
     if s.solved.solution.is_none() {
-        // No unique stable solution: print the diagnosis in full, in the requested format.
-        match args.format {
-            Format::Text => emit(
-                args.out.output.as_deref(),
-                render_solve::text(&s.solved).as_bytes(),
-            )?,
-            Format::Json => emit(
-                args.out.output.as_deref(),
-                render_solve::json(&s.solved).as_bytes(),
-            )?,
-            Format::Csv => {}
-        }
-        if args.format == Format::Csv || args.plot.is_some() {
-            eprintln_quiet(&format!(
-                "no impulse responses{}: {}",
-                if args.plot.is_some() {
-                    " and no plot"
-                } else {
-                    ""
-                },
-                s.solved
-                    .diagnosis
-                    .as_deref()
-                    .unwrap_or("no unique stable solution")
-            ));
-        }
+        // No unique stable solution: the one shape of cli.md, in the requested format.
+        let what = if args.plot.is_some() {
+            "impulse responses (and so no plot)"
+        } else {
+            "impulse responses"
+        };
+        let outcome =
+            super::moments::not_determinate(&s, args.format, args.out.output.as_deref(), what)?;
         if settings.timings {
             print_timings(&s, t0.elapsed());
         }
-        return Ok(Outcome::NoUniqueSolution);
+        return Ok(outcome);
     }
     let r = impulse_responses(&s.solved, &shocks, size, horizon)
         .map_err(|e| Failure::usage(e.to_string()))?;

@@ -7,7 +7,7 @@ use std::time::Instant;
 
 use super::args::{Format, MomentsArgs};
 use super::config::SolveSettings;
-use super::output::{emit, eprintln_quiet};
+use super::output::{emit, eprintln_quiet, write_stdout};
 use super::solve::{load_and_solve, print_timings, Solved};
 use super::{Failure, Outcome};
 use saddle::analysis::moments::{moments, MomentsError, MAX_HORIZON, MAX_LAGS};
@@ -25,8 +25,11 @@ pub(super) fn moments_failure(e: MomentsError) -> Failure {
     }
 }
 
-/// Prints the solve report (with its diagnosis) in the requested format for a model without a
-/// unique stable solution, says on stderr why nothing more follows, and returns exit status 3.
+/// The one shape of every command that needs a solution when there is none (cli.md, "When there
+/// is no unique stable solution"): text prints the solve report with its diagnosis, JSON the
+/// `solve` shape, both on stdout; CSV prints nothing on stdout and the diagnosis on stderr. `-o`
+/// (`out`) leaves no file: the diagnosis goes to stdout instead, and stderr says so. Returns exit
+/// status 3.
 pub(super) fn not_determinate(
     s: &Solved,
     format: Format,
@@ -34,13 +37,25 @@ pub(super) fn not_determinate(
     what: &str,
 ) -> Result<Outcome, Failure> {
     let text = match format {
-        Format::Text => saddle::output::solve::text(&s.solved),
-        Format::Json => saddle::output::solve::json(&s.solved),
-        Format::Csv => saddle::output::solve::csv(&s.solved),
+        Format::Text => Some(saddle::output::solve::text(&s.solved)),
+        Format::Json => Some(saddle::output::solve::json(&s.solved)),
+        Format::Csv => None,
     };
-    emit(out, text.as_bytes())?;
+    match text {
+        Some(t) => write_stdout(t.as_bytes())?,
+        None => eprintln_quiet(&format!(
+            "{}",
+            s.solved
+                .diagnosis
+                .as_deref()
+                .unwrap_or("the model has no unique stable solution")
+        )),
+    }
+    let file = out
+        .map(|p| format!("; nothing was written to {}", p.display()))
+        .unwrap_or_default();
     eprintln_quiet(&format!(
-        "error: {what} need a unique stable solution; this model's status is {} (diagnosis above)",
+        "error: {what} need a unique stable solution; this model's status is {}{file}",
         s.solved.status.as_str()
     ));
     Ok(Outcome::NoUniqueSolution)

@@ -404,13 +404,17 @@ fn additive_terms<'a>(e: &'a Expr, out: &mut Vec<&'a Expr>, depth: usize) {
     }
 }
 
-/// `term` is x[t+1] times or divided by an expression of parameters and numbers only.
+/// `term` is x[t+1] alone, or times or divided by numbers only (an accumulation law adds to the
+/// stock itself; `beta * infl[t+1]` or `b * p[t+1]` weigh an expectation).
 fn is_scaled_lead(term: &Expr, x: usize) -> bool {
     let mut leads = 0;
     let mut other = false;
     term.walk(&mut |e| match e {
         Expr::Variable { index, offset } if *index == x && *offset == 1 => leads += 1,
-        Expr::Variable { .. } | Expr::Innovation { .. } | Expr::SteadyState(_) => other = true,
+        Expr::Variable { .. }
+        | Expr::Innovation { .. }
+        | Expr::SteadyState(_)
+        | Expr::Parameter(_) => other = true,
         Expr::Call(..) | Expr::Call2(..) | Expr::Binary(crate::model::BinaryOp::Pow, ..) => {
             other = true
         }

@@ -79,16 +79,37 @@ fn bad_options_exit_2() {
 
 #[test]
 fn simulate_is_reproducible_through_the_binary() {
-    let a = saddle(&["simulate", &harbour(), "--seed", "11", "--periods", "50"]);
-    let b = saddle(&["simulate", &harbour(), "--seed", "11", "--periods", "50"]);
-    let c = saddle(&["simulate", &harbour(), "--seed", "12", "--periods", "50"]);
+    let harbour = harbour();
+    let csv = ["--format", "csv"];
+    let run = |seed: &str| {
+        let mut a = vec![
+            "simulate",
+            harbour.as_str(),
+            "--seed",
+            seed,
+            "--periods",
+            "50",
+        ];
+        a.extend(csv);
+        saddle(&a)
+    };
+    let (a, b, c) = (run("11"), run("11"), run("12"));
     assert_eq!(a.status.code(), Some(0));
     assert_eq!(a.stdout, b.stdout);
     assert_ne!(a.stdout, c.stdout);
     let text = String::from_utf8(a.stdout).unwrap();
     assert!(text.starts_with("period,gap,infl,rate,drift\n"));
     assert_eq!(text.lines().count(), 51);
-    let tidy = saddle(&["simulate", &harbour(), "--periods", "3", "--layout", "tidy"]);
+    let tidy = saddle(&[
+        "simulate",
+        &harbour,
+        "--periods",
+        "3",
+        "--layout",
+        "tidy",
+        "--format",
+        "csv",
+    ]);
     let t = String::from_utf8(tidy.stdout).unwrap();
     assert_eq!(t.lines().count(), 13);
     assert!(t.lines().nth(1).unwrap().starts_with("1,gap,"));

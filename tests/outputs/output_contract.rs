@@ -1,0 +1,101 @@
+//! The output contract of cli.md: one shape per format without a unique stable solution, and
+//! files written safely (`-o`): through symbolic links, keeping permissions, with any legal
+//! name, and a failed write never exits 0.
+
+use crate::support::{code, saddle, temp_model, text};
+
+/// The forward price p = b p[t+1] + e with b = 1.5 has no unique stable solution (its only
+/// root 1/b lies inside the unit circle: indeterminate; common practice, the scalar
+/// Blanchard-Kahn case).
+const INDETERMINATE: &str =
+    "endogenous\n  p\nexogenous\n  e\nparameters\n  b = 1.5\nequations\n  p = b * p[t+1] + e\n";
+
+#[test]
+fn without_a_solution_every_command_keeps_one_shape_per_format() {
+    let m = temp_model(INDETERMINATE);
+    let path = m.path().to_str().unwrap();
+    let dir = tempfile::tempdir().unwrap();
+    for command in ["irf", "moments", "simulate"] {
+        // CSV: nothing on stdout, the diagnosis on stderr, no file.
+        let file = dir.path().join(format!("{command}.csv"));
+        let o = saddle(&[
+            command,
+            path,
+            "--format",
+            "csv",
+            "-o",
+            file.to_str().unwrap(),
+        ]);
+        assert_eq!(code(&o), 3, "{command}");
+        assert!(o.stdout.is_empty(), "{command}: {}", text(&o.stdout));
+        assert!(text(&o.stderr).contains("Indeterminate"), "{command}");
+        assert!(!file.exists(), "{command} left {}", file.display());
+        // JSON: the solve shape and nothing else.
+        let o = saddle(&[command, path, "--format", "json"]);
+        assert_eq!(code(&o), 3, "{command}");
+        let v: serde_json::Value = serde_json::from_slice(&o.stdout).unwrap();
+        assert_eq!(v["status"], "indeterminate", "{command}");
+        assert!(
+            v["policy"].is_null() && v["diagnosis"].is_string(),
+            "{command}"
+        );
+        // Text: the diagnosis.
+        let o = saddle(&[command, path]);
+        assert_eq!(code(&o), 3, "{command}");
+        assert!(text(&o.stdout).contains("Indeterminate"), "{command}");
+    }
+}
+
+#[cfg(unix)]
+#[test]
+fn output_files_are_written_through_links_keeping_their_mode() {
+    use std::os::unix::fs::PermissionsExt;
+    let dir = tempfile::tempdir().unwrap();
+    let real = dir.path().join("real.csv");
+    let link = dir.path().join("link.csv");
+    std::os::unix::fs::symlink(&real, &link).unwrap();
+    let args = |out: &str| saddle(&["irf", "models/harbour.saddle", "--format", "csv", "-o", out]);
+    // A dangling link: the file it names is created, the link stays a link.
+    assert_eq!(code(&args(link.to_str().unwrap())), 0);
+    assert!(std::fs::symlink_metadata(&link)
+        .unwrap()
+        .file_type()
+        .is_symlink());
+    assert!(std::fs::read_to_string(&real)
+        .unwrap()
+        .starts_with("shock,variable,period,value"));
+    // The mode of an existing file is kept.
+    std::fs::set_permissions(&real, std::fs::Permissions::from_mode(0o600)).unwrap();
+    assert_eq!(code(&args(link.to_str().unwrap())), 0);
+    let mode = std::fs::metadata(&real).unwrap().permissions().mode() & 0o777;
+    assert_eq!(mode, 0o600);
+    // A 250-character name (legal on common file systems) works: the temporary name is short.
+    let long = dir.path().join(format!("{}.csv", "b".repeat(246)));
+    assert_eq!(code(&args(long.to_str().unwrap())), 0);
+    assert!(long.exists());
+    // No temporary file is left behind.
+    let leftovers: Vec<_> = std::fs::read_dir(dir.path())
+        .unwrap()
+        .filter_map(|e| e.ok())
+        .filter(|e| e.file_name().to_string_lossy().contains("saddle-"))
+        .collect();
+    assert!(leftovers.is_empty(), "{leftovers:?}");
+}
+
+#[cfg(target_os = "linux")]
+#[test]
+fn a_failed_write_to_stdout_does_not_exit_0() {
+    let full = std::fs::OpenOptions::new().write(true).open("/dev/full");
+    let Ok(full) = full else { return };
+    let o = std::process::Command::new(env!("CARGO_BIN_EXE_saddle"))
+        .args(["irf", "models/harbour.saddle"])
+        .current_dir(env!("CARGO_MANIFEST_DIR"))
+        .stdout(full)
+        .output()
+        .unwrap();
+    assert_ne!(o.status.code(), Some(0));
+    assert!(text(&o.stderr).contains("cannot write to standard output"));
+    // A device as the -o target is written directly (it cannot be renamed over).
+    let o = saddle(&["irf", "models/harbour.saddle", "-o", "/dev/null"]);
+    assert_eq!(code(&o), 0);
+}
