@@ -253,7 +253,7 @@ pub struct SweepArgs {
     /// Draw the grid coloured by status (SVG).
     #[arg(long, value_name = "PATH.svg")]
     pub plot: Option<PathBuf>,
-    #[arg(long, value_enum, default_value_t = Format::Csv)]
+    #[arg(long, value_enum, default_value_t = Format::Text)]
     pub format: Format,
     #[command(flatten)]
     pub out: OutputArgs,

@@ -124,6 +124,8 @@ fn sweep_csv_and_json_from_the_binary() {
         "phi_pi=0.9:1.1:5",
         "--vary",
         "phi_y=0:1:3",
+        "--format",
+        "csv",
     ]);
     assert_eq!(
         out.status.code(),
@@ -159,7 +161,14 @@ fn sweep_csv_and_json_from_the_binary() {
 fn sweep_points_that_fail_become_error_rows() {
     // theta = 0 divides by zero in kappa: that point is an error row with a message, and the
     // sweep still exits 0 with every row.
-    let out = saddle(&["sweep", &harbour(), "--vary", "theta=0:0.5:3"]);
+    let out = saddle(&[
+        "sweep",
+        &harbour(),
+        "--vary",
+        "theta=0:0.5:3",
+        "--format",
+        "csv",
+    ]);
     assert_eq!(
         out.status.code(),
         Some(0),
