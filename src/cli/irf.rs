@@ -44,9 +44,9 @@ pub fn run(args: IrfArgs) -> Result<Outcome, Failure> {
         }
     }
     if names.is_empty() {
-        return Err(Failure::usage(
-            "the model declares no innovations, so there is nothing to shock",
-        ));
+        // Not an error: the model is fine and has no impulse to respond to (moments of such a
+        // model are zero too); the same input gets the same exit status from every command.
+        eprintln_quiet("note: the model declares no innovations, so there is nothing to shock");
     }
     let horizon = args
         .horizon

@@ -84,6 +84,8 @@ pub fn evaluate_parameters(parameters: &mut [Parameter], order: &[usize]) -> Opt
 pub enum CovarianceProblem {
     #[error("evaluates to {0}")]
     NotFinite(f64),
+    #[error("the variance (the square of the sd {0:e}) is not a finite number")]
+    VarianceOverflow(f64),
     #[error("a standard deviation must not be negative, got {0}")]
     NegativeSd(f64),
     #[error("a variance must not be negative, got {0}")]
@@ -190,6 +192,10 @@ fn build_scaled(
                 if item.kind == CovarianceKind::Sd {
                     if v < 0.0 {
                         problems.push((k, CovarianceProblem::NegativeSd(v)));
+                    }
+                    if !(v * v).is_finite() {
+                        problems.push((k, CovarianceProblem::VarianceOverflow(v)));
+                        continue;
                     }
                     sd[a] = v.abs();
                     var[a] = v * v;

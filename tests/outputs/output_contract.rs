@@ -99,3 +99,19 @@ fn a_failed_write_to_stdout_does_not_exit_0() {
     let o = saddle(&["irf", "models/harbour.saddle", "-o", "/dev/null"]);
     assert_eq!(code(&o), 0);
 }
+
+/// The same input gets the same exit status from every command: a model without innovations is
+/// a valid model (its responses are empty, its moments zero), so irf exits 0 like moments (it
+/// used to exit 2, a command-line error).
+#[test]
+fn a_model_without_innovations_is_not_an_error_for_any_command() {
+    let m = temp_model("endogenous\n  x\nequations\n  x = 0.5 * x[t-1]\n");
+    let path = m.path().to_str().unwrap();
+    for command in ["check", "solve", "irf", "moments", "simulate"] {
+        let o = saddle(&[command, path]);
+        assert_eq!(code(&o), 0, "{command}: {}", text(&o.stderr));
+    }
+    let o = saddle(&["irf", path, "--format", "json"]);
+    let v: serde_json::Value = serde_json::from_slice(&o.stdout).unwrap();
+    assert!(v["responses"].as_object().unwrap().is_empty());
+}
