@@ -1,10 +1,17 @@
 //! Impulse responses.
 //!
 //! Contract: for a determinate solution y_t = P s_{t-1} + Q e_t, s_t = G s_{t-1} + H e_t and an
-//! impulse e_0 = size * u_k (u_k the k-th unit vector; size = sqrt(Sigma_kk) for one standard
-//! deviation, 1 for a unit impulse) with no innovations after it and s_{-1} = 0, the response at
-//! horizon h is y_0 = Q e_0, and y_h = P s_{h-1} with s_0 = H e_0, s_h = G s_{h-1}. Responses are
-//! deviations from the steady state (log deviations for `log` variables).
+//! impulse e_0 with no innovations after it and s_{-1} = 0, the response at horizon h is
+//! y_0 = Q e_0, and y_h = P s_{h-1} with s_0 = H e_0, s_h = G s_{h-1}. Responses are deviations
+//! from the steady state (log deviations for `log` variables). The impulse for innovation k is
+//!
+//! - `OneSd` (the default): one standard deviation of e_k together with the co-movement of the
+//!   others that it predicts, e_0 = E[e | e_k = sd_k] = Sigma u_k / sd_k (the generalized impulse
+//!   of Pesaran and Shin 1998, Economics Letters 58). With uncorrelated innovations it is
+//!   sd_k u_k; for the first-declared innovation it is also its Cholesky impulse, so it agrees
+//!   with the variance decomposition's orthogonalisation in declaration order.
+//! - `OneSdAlone`: sd_k u_k, the other innovations held at zero even when they correlate.
+//! - `Unit`: u_k.
 
 use nalgebra::{DMatrix, DVector};
 
@@ -21,8 +28,10 @@ pub const MAX_VALUES: usize = 20_000_000;
 /// The size of the impulse.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 pub enum ImpulseSize {
-    /// One standard deviation of the innovation (from the covariance diagonal).
+    /// One standard deviation of the innovation with the co-movement of the correlated others.
     OneSd,
+    /// One standard deviation of the innovation alone.
+    OneSdAlone,
     /// A unit impulse.
     Unit,
 }
@@ -32,6 +41,7 @@ impl ImpulseSize {
     pub fn as_str(self) -> &'static str {
         match self {
             ImpulseSize::OneSd => "one-sd",
+            ImpulseSize::OneSdAlone => "one-sd-alone",
             ImpulseSize::Unit => "unit",
         }
     }
@@ -48,8 +58,12 @@ pub struct ImpulseResponses {
     pub variables: Vec<String>,
     /// Per shock: variables x (horizon + 1).
     pub responses: Vec<DMatrix<f64>>,
-    /// Per shock: the impulse size used.
+    /// Per shock: the impulse size of the shocked innovation itself.
     pub impulse: Vec<f64>,
+    /// Every declared innovation, declaration order (the entries of an impulse vector).
+    pub innovations: Vec<String>,
+    /// Per shock: the whole impulse vector e_0 (one entry per declared innovation).
+    pub impulse_vectors: Vec<DVector<f64>>,
 }
 
 /// Why impulse responses could not be computed.
@@ -96,37 +110,61 @@ pub fn impulse_responses(
     }
     let mut responses = Vec::with_capacity(shocks.len());
     let mut impulse = Vec::with_capacity(shocks.len());
+    let mut vectors = Vec::with_capacity(shocks.len());
     let mut names = Vec::with_capacity(shocks.len());
     for &k in shocks {
         if k >= space.q.ncols() || k >= solved.shocks.len() {
             return Err(IrfError::UnknownShock(k));
         }
+        let ne = space.q.ncols();
+        let sigma = |i: usize, j: usize| -> f64 {
+            if i < solved.covariance.nrows() && j < solved.covariance.ncols() {
+                solved.covariance[(i, j)]
+            } else if i == j {
+                1.0
+            } else {
+                0.0
+            }
+        };
+        let sd = {
+            let var = sigma(k, k);
+            if !(var.is_finite() && var >= 0.0) {
+                return Err(IrfError::BadSd {
+                    shock: solved.shocks[k].clone(),
+                    value: var.sqrt(),
+                });
+            }
+            var.sqrt()
+        };
+        let mut vector = DVector::<f64>::zeros(ne);
         let amount = match size {
-            ImpulseSize::Unit => 1.0,
+            ImpulseSize::Unit => {
+                vector[k] = 1.0;
+                1.0
+            }
+            ImpulseSize::OneSdAlone => {
+                vector[k] = sd;
+                sd
+            }
             ImpulseSize::OneSd => {
-                let var = if k < solved.covariance.nrows() && k < solved.covariance.ncols() {
-                    solved.covariance[(k, k)]
-                } else {
-                    1.0
-                };
-                if !(var.is_finite() && var >= 0.0) {
-                    return Err(IrfError::BadSd {
-                        shock: solved.shocks[k].clone(),
-                        value: var.sqrt(),
-                    });
+                if sd > 0.0 {
+                    for i in 0..ne {
+                        vector[i] = if i == k { sd } else { sigma(i, k) / sd };
+                    }
                 }
-                var.sqrt()
+                sd
             }
         };
         let mut out = DMatrix::<f64>::zeros(nv, horizon + 1);
-        out.column_mut(0).copy_from(&(space.q.column(k) * amount));
-        let mut s: DVector<f64> = space.h.column(k) * amount;
+        out.column_mut(0).copy_from(&(&space.q * &vector));
+        let mut s: DVector<f64> = &space.h * &vector;
         for h in 1..=horizon {
             out.column_mut(h).copy_from(&(&space.p * &s));
             s = &space.g * &s;
         }
         responses.push(out);
         impulse.push(amount);
+        vectors.push(vector);
         names.push(solved.shocks[k].clone());
     }
     Ok(ImpulseResponses {
@@ -136,5 +174,7 @@ pub fn impulse_responses(
         variables: solved.variables.clone(),
         responses,
         impulse,
+        impulse_vectors: vectors,
+        innovations: solved.shocks.clone(),
     })
 }

@@ -74,8 +74,10 @@ pub enum Format {
 
 #[derive(Debug, Clone, Copy, PartialEq, Eq, ValueEnum)]
 pub enum ImpulseSize {
-    /// One standard deviation of the innovation.
+    /// One standard deviation of the innovation, with the co-movement of correlated innovations.
     OneSd,
+    /// One standard deviation of the innovation alone (correlated innovations held at zero).
+    OneSdAlone,
     /// A unit impulse.
     Unit,
 }

@@ -54,6 +54,7 @@ pub fn run(args: IrfArgs) -> Result<Outcome, Failure> {
         .unwrap_or(DEFAULT_HORIZON) as usize;
     let size = match args.size {
         SizeArg::OneSd => ImpulseSize::OneSd,
+        SizeArg::OneSdAlone => ImpulseSize::OneSdAlone,
         SizeArg::Unit => ImpulseSize::Unit,
     };
     let t0 = Instant::now();

@@ -12,7 +12,19 @@ struct JsonIrf<'a> {
     size: &'static str,
     responses: Ordered<'a, Ordered<'a, Vec<f64>>>,
     impulse: Ordered<'a, f64>,
+    /// The whole impulse vector per shock (the co-movement of correlated innovations included).
+    impulse_vectors: Ordered<'a, Ordered<'a, f64>>,
+    convention: &'static str,
     warnings: &'a [String],
+}
+
+/// The impulse convention in a sentence, for every rendering.
+pub fn convention(size: ImpulseSize) -> &'static str {
+    match size {
+        ImpulseSize::OneSd => "impulse of one standard deviation of the innovation, with the co-movement of correlated innovations it predicts (Sigma u_k / sd_k)",
+        ImpulseSize::OneSdAlone => "impulse of one standard deviation of the innovation alone (correlated innovations held at zero)",
+        ImpulseSize::Unit => "unit impulse of the innovation alone",
+    }
 }
 
 /// The JSON document of cli.md (pretty-printed, ending in a newline), without warnings.
@@ -49,6 +61,25 @@ pub fn json_with_warnings(r: &ImpulseResponses, warnings: &[String]) -> String {
                 .zip(r.impulse.iter().copied())
                 .collect(),
         ),
+        impulse_vectors: Ordered(
+            r.shocks
+                .iter()
+                .zip(&r.impulse_vectors)
+                .map(|(s, v)| {
+                    (
+                        s.as_str(),
+                        Ordered(
+                            r.innovations
+                                .iter()
+                                .map(|n| n.as_str())
+                                .zip(v.iter().copied())
+                                .collect(),
+                        ),
+                    )
+                })
+                .collect(),
+        ),
+        convention: convention(r.size),
         warnings,
     };
     let mut out = serde_json::to_string_pretty(&doc)
@@ -90,7 +121,14 @@ pub fn text(r: &ImpulseResponses, title: Option<&str>, log: &[bool]) -> String {
     let align = vec![Align::Right; header.len()];
     for ((shock, m), amount) in r.shocks.iter().zip(&r.responses).zip(&r.impulse) {
         let size = match r.size {
+            ImpulseSize::OneSd if comoves(r, shock) => format!(
+                "one standard deviation = {}, with the co-movement of the innovations that correlate with it",
+                number(*amount, 6)
+            ),
             ImpulseSize::OneSd => format!("one standard deviation = {}", number(*amount, 6)),
+            ImpulseSize::OneSdAlone => {
+                format!("one standard deviation = {}, alone", number(*amount, 6))
+            }
             ImpulseSize::Unit => "a unit impulse".to_string(),
         };
         out.push_str(&format!("\nResponses to {shock} ({size}) at period 0\n"));
@@ -117,4 +155,17 @@ pub fn text(r: &ImpulseResponses, title: Option<&str>, log: &[bool]) -> String {
     }
     out.push_str("\nResults are conditional on the model and its calibration.\n");
     out
+}
+
+/// Whether the impulse to `shock` moves other innovations too (they correlate with it).
+fn comoves(r: &ImpulseResponses, shock: &str) -> bool {
+    let Some(i) = r.shocks.iter().position(|s| s == shock) else {
+        return false;
+    };
+    let own = r.innovations.iter().position(|s| s == shock);
+    r.impulse_vectors.get(i).is_some_and(|v| {
+        v.iter()
+            .enumerate()
+            .any(|(j, x)| Some(j) != own && *x != 0.0)
+    })
 }

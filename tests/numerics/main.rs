@@ -8,6 +8,7 @@ mod support;
 
 mod qz_support;
 
+mod analysis_correlated_irf;
 mod analysis_models;
 mod analysis_moments;
 mod analysis_simulate;
