@@ -5,7 +5,7 @@ use std::time::Instant;
 
 use super::args::{Format, ImpulseSize as SizeArg, IrfArgs};
 use super::config::SolveSettings;
-use super::output::{emit, eprintln_quiet, write_atomic};
+use super::output::{eprintln_quiet, write_atomic};
 use super::solve::{load_and_solve, outcome, print_timings};
 use super::{Failure, Outcome};
 use saddle::analysis::irf::{impulse_responses, ImpulseSize};
@@ -79,7 +79,12 @@ pub fn run(args: IrfArgs) -> Result<Outcome, Failure> {
         Format::Json => render::json_with_warnings(&r, &s.solved.warnings),
         Format::Csv => render::csv(&r),
     };
-    emit(args.out.output.as_deref(), text.as_bytes())?;
+    super::output::emit_traced(
+        args.out.output.as_deref(),
+        args.format,
+        &text,
+        &s.provenance,
+    )?;
     if let Some(path) = &args.plot {
         let grids = charts::impulse_response_grids(
             &r.shocks,
@@ -89,7 +94,7 @@ pub fn run(args: IrfArgs) -> Result<Outcome, Failure> {
             &r.responses,
             r.size.as_str(),
         );
-        let svg = charts::impulse_response_chart(&grids, &args.file.display().to_string());
+        let svg = charts::impulse_response_chart(&grids, &s.provenance.text_line());
         write_atomic(path, svg.as_bytes())?;
     }
     for w in &s.solved.warnings {

@@ -7,7 +7,7 @@ use std::time::Instant;
 
 use super::args::{Format, MomentsArgs};
 use super::config::SolveSettings;
-use super::output::{emit, eprintln_quiet, write_stdout};
+use super::output::{eprintln_quiet, write_stdout};
 use super::solve::{load_and_solve, print_timings, Solved};
 use super::{Failure, Outcome};
 use saddle::analysis::moments::{moments, MomentsError, MAX_HORIZON, MAX_LAGS};
@@ -37,8 +37,15 @@ pub(super) fn not_determinate(
     what: &str,
 ) -> Result<Outcome, Failure> {
     let text = match format {
-        Format::Text => Some(saddle::output::solve::text(&s.solved)),
-        Format::Json => Some(saddle::output::solve::json(&s.solved)),
+        Format::Text => Some(format!(
+            "{}\n\n{}\n",
+            saddle::output::solve::text(&s.solved).trim_end(),
+            s.provenance.text_line()
+        )),
+        Format::Json => Some(
+            s.provenance
+                .add_to_json(&saddle::output::solve::json(&s.solved)),
+        ),
         Format::Csv => None,
     };
     match text {
@@ -86,7 +93,12 @@ pub fn run(args: MomentsArgs) -> Result<Outcome, Failure> {
         Format::Json => render::to_json(&m).to_pretty_string(),
         Format::Csv => render::to_csv(&m),
     };
-    emit(args.out.output.as_deref(), text.as_bytes())?;
+    super::output::emit_traced(
+        args.out.output.as_deref(),
+        args.format,
+        &text,
+        &s.provenance,
+    )?;
     if settings.timings {
         print_timings(&s, t0.elapsed());
     }

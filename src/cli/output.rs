@@ -45,6 +45,42 @@ fn remove_in_flight() {
     }
 }
 
+/// Writes a rendered output with its provenance (cli.md): JSON gains a `"provenance"` object,
+/// text ends with the provenance line, and a CSV written to a file gets `PATH.json` beside it
+/// (stdout CSV stays a plain table). Returns what [`emit`] returns.
+pub fn emit_traced(
+    path: Option<&Path>,
+    format: super::args::Format,
+    text: &str,
+    provenance: &saddle::output::provenance::Provenance,
+) -> Result<(), Failure> {
+    use super::args::Format;
+    match format {
+        Format::Json => emit(path, provenance.add_to_json(text).as_bytes()),
+        Format::Text => {
+            let mut t = text.trim_end().to_string();
+            t.push_str("\n\n");
+            t.push_str(&provenance.text_line());
+            t.push('\n');
+            emit(path, t.as_bytes())
+        }
+        Format::Csv => {
+            emit(path, text.as_bytes())?;
+            if let Some(p) = path {
+                let mut side = p.as_os_str().to_owned();
+                side.push(".json");
+                let mut doc = serde_json::to_string_pretty(&serde_json::json!({
+                    "provenance": provenance.json()
+                }))
+                .unwrap_or_default();
+                doc.push('\n');
+                write_atomic(Path::new(&side), doc.as_bytes())?;
+            }
+            Ok(())
+        }
+    }
+}
+
 /// Writes `bytes` to `path` atomically, or to stdout when `path` is `None`.
 pub fn emit(path: Option<&Path>, bytes: &[u8]) -> Result<(), Failure> {
     match path {

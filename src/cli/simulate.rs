@@ -6,7 +6,6 @@ use std::time::Instant;
 use super::args::{Format, Layout, SimulateArgs};
 use super::config::SolveSettings;
 use super::moments::not_determinate;
-use super::output::emit;
 use super::solve::{load_and_solve, print_timings};
 use super::{Failure, Outcome};
 use saddle::analysis::simulate::{
@@ -69,15 +68,20 @@ pub fn run(args: SimulateArgs) -> Result<Outcome, Failure> {
         (Format::Json, _) => render::to_json(&sim).to_pretty_string(),
         (Format::Text, _) => render::to_text(&sim),
     };
-    emit(args.out.output.as_deref(), text.as_bytes())?;
+    super::output::emit_traced(
+        args.out.output.as_deref(),
+        args.format,
+        &text,
+        &s.provenance,
+    )?;
     if let Some(path) = &args.plot {
         let title = match &s.solved.title {
             Some(t) => format!("Simulated paths: {t}"),
             None => "Simulated paths".to_string(),
         };
         let note = format!(
-            "Model {}; seed {}, {} periods kept after a burn-in of {}.",
-            args.file.display(),
+            "{} Seed {}, {} periods kept after a burn-in of {}.",
+            s.provenance.text_line(),
             args.seed,
             periods,
             burn_in

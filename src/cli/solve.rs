@@ -8,7 +8,7 @@ use std::time::{Duration, Instant};
 use super::args::{Format, SolveArgs};
 use super::config::{SolveSettings, ThresholdChoice};
 use super::load::load_model;
-use super::output::{emit, eprintln_quiet};
+use super::output::eprintln_quiet;
 use super::{Failure, Outcome};
 use saddle::model::Model;
 use saddle::output::solve as render;
@@ -26,6 +26,8 @@ pub struct Solved {
     /// Regime, expected loss and multipliers (`None` for a model without objective solved by
     /// its rules).
     pub policy: Option<PolicyInfo>,
+    /// Where the results come from (file, hash, overrides, parameters, threshold, regime).
+    pub provenance: saddle::output::provenance::Provenance,
 }
 
 /// What an optimal-policy regime adds to a solve.
@@ -92,8 +94,18 @@ pub fn failure(e: SolveError) -> Failure {
 /// Reads `file`, applies the settings' overrides and solves.
 pub fn load_and_solve(file: &Path, settings: &SolveSettings) -> Result<Solved, Failure> {
     let t0 = Instant::now();
-    let (model, _source) = load_model(file)?;
+    let (model, source) = load_model(file)?;
     let model = apply_overrides(model, &settings.overrides)?;
+    let trace = |model: &Model, solved: &SolvedModel| {
+        saddle::output::provenance::Provenance::new(
+            &file.display().to_string(),
+            source.as_bytes(),
+            model,
+            &settings.overrides,
+            solved.threshold,
+            settings.regime.as_str(),
+        )
+    };
     let load_time = t0.elapsed();
     if settings.regime != Regime::Rule {
         let t1 = Instant::now();
@@ -110,6 +122,7 @@ pub fn load_and_solve(file: &Path, settings: &SolveSettings) -> Result<Solved, F
             ..Timings::default()
         };
         return Ok(Solved {
+            provenance: trace(&model, &r.solved),
             model: r.model,
             solved: r.solved,
             timings,
@@ -135,6 +148,7 @@ pub fn load_and_solve(file: &Path, settings: &SolveSettings) -> Result<Solved, F
         None
     };
     Ok(Solved {
+        provenance: trace(&model, &solved),
         model,
         solved,
         timings,
@@ -188,7 +202,12 @@ pub fn run(args: SolveArgs) -> Result<Outcome, Failure> {
         },
         Format::Csv => render::csv(&s.solved),
     };
-    emit(args.out.output.as_deref(), text.as_bytes())?;
+    super::output::emit_traced(
+        args.out.output.as_deref(),
+        args.format,
+        &text,
+        &s.provenance,
+    )?;
     if settings.timings {
         print_timings(&s, t0.elapsed());
     }

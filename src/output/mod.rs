@@ -7,6 +7,7 @@ pub mod irf;
 pub mod moments;
 pub mod ordered_json;
 pub mod policy;
+pub mod provenance;
 pub mod report;
 pub mod simulate;
 pub mod solve;

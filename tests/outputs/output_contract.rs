@@ -115,3 +115,60 @@ fn a_model_without_innovations_is_not_an_error_for_any_command() {
     let v: serde_json::Value = serde_json::from_slice(&o.stdout).unwrap();
     assert!(v["responses"].as_object().unwrap().is_empty());
 }
+
+/// Every output says where it came from (cli.md): JSON carries `provenance` with exactly the
+/// `--set` values as overrides and every parameter as used; text ends with the provenance line; a
+/// CSV written with `-o` gets `PATH.json` beside it and stays a plain table.
+#[test]
+fn every_output_records_its_provenance() {
+    let set = ["--set", "phi_pi=1.7"];
+    for command in ["solve", "irf", "moments", "simulate"] {
+        let mut a = vec![command, "models/harbour.saddle", "--format", "json"];
+        a.extend(set);
+        let o = saddle(&a);
+        assert_eq!(code(&o), 0, "{command}: {}", text(&o.stderr));
+        let v: serde_json::Value = serde_json::from_slice(&o.stdout).unwrap();
+        let p = &v["provenance"];
+        assert_eq!(p["file"], "models/harbour.saddle", "{command}");
+        assert_eq!(p["sha256"].as_str().map(str::len), Some(64), "{command}");
+        assert_eq!(
+            p["overrides"],
+            serde_json::json!({"phi_pi": 1.7}),
+            "{command}"
+        );
+        assert_eq!(p["parameters"]["phi_pi"], 1.7, "{command}");
+        assert_eq!(p["parameters"]["beta"], 0.99, "{command}");
+        assert_eq!(p["regime"], "rule", "{command}");
+        let mut a = vec![command, "models/harbour.saddle"];
+        a.extend(set);
+        let o = saddle(&a);
+        let t = text(&o.stdout);
+        assert!(
+            t.trim_end()
+                .lines()
+                .last()
+                .unwrap_or("")
+                .starts_with("Source: models/harbour.saddle (sha256 ")
+                && t.contains("overrides phi_pi=1.7"),
+            "{command}: {t}"
+        );
+    }
+    let dir = tempfile::tempdir().unwrap();
+    let out = dir.path().join("irf.csv");
+    let o = saddle(&[
+        "irf",
+        "models/harbour.saddle",
+        "--format",
+        "csv",
+        "-o",
+        out.to_str().unwrap(),
+    ]);
+    assert_eq!(code(&o), 0);
+    assert!(std::fs::read_to_string(&out)
+        .unwrap()
+        .starts_with("shock,variable,period,value\n"));
+    let side: serde_json::Value =
+        serde_json::from_str(&std::fs::read_to_string(dir.path().join("irf.csv.json")).unwrap())
+            .unwrap();
+    assert_eq!(side["provenance"]["file"], "models/harbour.saddle");
+}

@@ -103,14 +103,16 @@ pub fn impulse_response_grids(
 }
 
 /// The `irf --plot` document: the grids of [`impulse_response_grids`] stacked, with a note.
+/// `source` is the provenance line (file, hash, overrides; see `output::provenance`).
 pub fn impulse_response_chart(grids: &[PanelGrid], source: &str) -> String {
     panel_grids(
         grids,
         &GridOptions {
             y_range: YRange::IncludeZero,
-            notes: vec![format!(
-                "Model {source}. Deviations from the steady state; each panel has its own scale. Results are conditional on the model and its calibration."
-            )],
+            notes: vec![
+                "Deviations from the steady state; each panel has its own scale. Results are conditional on the model and its calibration.".to_string(),
+                source.to_string(),
+            ],
             ..GridOptions::default()
         },
     )
