@@ -95,6 +95,19 @@ pub fn run(args: ReportArgs) -> Result<Outcome, Failure> {
             format!("{horizon} periods"),
         ),
     ];
+    if let Some(p) = &s.policy {
+        run_settings.push((
+            "policy regime".to_string(),
+            saddle::output::policy::regime_words(p.regime).to_string(),
+        ));
+        run_settings.push((
+            "expected loss".to_string(),
+            p.expected_loss.map_or(
+                "none (no stationary distribution)".to_string(),
+                saddle::output::policy::fmt_num,
+            ),
+        ));
+    }
     if !settings.overrides.is_empty() {
         run_settings.push((
             "command-line overrides".to_string(),

@@ -11,6 +11,7 @@ use super::load::load_model;
 use super::output::{emit, eprintln_quiet};
 use super::{Failure, Outcome};
 use saddle::model::Model;
+use saddle::output::policy::{sha256_hex, Provenance};
 use saddle::output::solve as render;
 use saddle::policy::{rule_expected_loss, solve_regime, PolicyError, PolicyParams, Regime};
 use saddle::solution::{
@@ -26,6 +27,8 @@ pub struct Solved {
     /// Regime, expected loss and multipliers (`None` for a model without objective solved by
     /// its rules).
     pub policy: Option<PolicyInfo>,
+    /// File, its hash, overrides, parameters, threshold and regime.
+    pub provenance: Provenance,
 }
 
 /// What an optimal-policy regime adds to a solve.
@@ -89,11 +92,35 @@ pub fn failure(e: SolveError) -> Failure {
     }
 }
 
+/// The provenance of an output made from `model` (overrides applied) read from `file` with text
+/// `source`; the threshold is filled in once solved.
+pub fn provenance(
+    file: &Path,
+    source: &str,
+    model: &Model,
+    settings: &SolveSettings,
+    threshold: Option<f64>,
+) -> Provenance {
+    Provenance {
+        file: file.display().to_string(),
+        sha256: sha256_hex(source.as_bytes()),
+        overrides: settings.overrides.clone(),
+        parameters: model
+            .parameters
+            .iter()
+            .map(|p| (p.name.clone(), p.value))
+            .collect(),
+        threshold,
+        regime: settings.regime.as_str().to_string(),
+    }
+}
+
 /// Reads `file`, applies the settings' overrides and solves.
 pub fn load_and_solve(file: &Path, settings: &SolveSettings) -> Result<Solved, Failure> {
     let t0 = Instant::now();
-    let (model, _source) = load_model(file)?;
+    let (model, source) = load_model(file)?;
     let model = apply_overrides(model, &settings.overrides)?;
+    let mut provenance = provenance(file, &source, &model, settings, None);
     let load_time = t0.elapsed();
     if settings.regime != Regime::Rule {
         let t1 = Instant::now();
@@ -109,6 +136,7 @@ pub fn load_and_solve(file: &Path, settings: &SolveSettings) -> Result<Solved, F
             solution: t1.elapsed(),
             ..Timings::default()
         };
+        provenance.threshold = Some(r.solved.threshold);
         return Ok(Solved {
             model: r.model,
             solved: r.solved,
@@ -119,6 +147,7 @@ pub fn load_and_solve(file: &Path, settings: &SolveSettings) -> Result<Solved, F
                 expected_loss: r.expected_loss,
                 multipliers: r.multipliers,
             }),
+            provenance,
         });
     }
     let prepared = PreparedModel::new(&model).map_err(failure)?;
@@ -134,12 +163,14 @@ pub fn load_and_solve(file: &Path, settings: &SolveSettings) -> Result<Solved, F
     } else {
         None
     };
+    provenance.threshold = Some(solved.threshold);
     Ok(Solved {
         model,
         solved,
         timings,
         load_time,
         policy,
+        provenance,
     })
 }
 
@@ -174,6 +205,7 @@ pub fn run(args: SolveArgs) -> Result<Outcome, Failure> {
                     p.expected_loss,
                     &p.multipliers,
                 ));
+                t.push_str(&format!("{}\n", s.provenance.text_line()));
             }
             t
         }
@@ -183,6 +215,7 @@ pub fn run(args: SolveArgs) -> Result<Outcome, Failure> {
                 p.regime,
                 p.expected_loss,
                 &p.multipliers,
+                Some(&s.provenance),
             ),
             None => render::json(&s.solved),
         },

@@ -8,6 +8,70 @@
 use crate::policy::Regime;
 use crate::solution::SolvedModel;
 
+/// Where an output came from (cli.md "Every output says where it came from").
+#[derive(Debug, Clone, PartialEq)]
+pub struct Provenance {
+    /// The model file as given on the command line.
+    pub file: String,
+    /// SHA-256 of the model file's bytes, lower-case hex.
+    pub sha256: String,
+    /// Exactly the `--set` values.
+    pub overrides: Vec<(String, f64)>,
+    /// Every parameter's value as used.
+    pub parameters: Vec<(String, f64)>,
+    /// The stable-root threshold used (1/sqrt(discount) under an optimal regime).
+    pub threshold: Option<f64>,
+    /// `rule`, `commitment`, `discretion`, or `all` for `optimize`.
+    pub regime: String,
+}
+
+impl Provenance {
+    /// The provenance JSON object.
+    pub fn json(&self) -> String {
+        let pairs = |v: &[(String, f64)]| {
+            v.iter()
+                .map(|(n, x)| format!("{}: {}", json_string(n), json_number(Some(*x))))
+                .collect::<Vec<_>>()
+                .join(", ")
+        };
+        format!(
+            "{{\"file\": {}, \"sha256\": {}, \"version\": {}, \"overrides\": {{{}}}, \"parameters\": {{{}}}, \"threshold\": {}, \"regime\": {}}}",
+            json_string(&self.file),
+            json_string(&self.sha256),
+            json_string(env!("CARGO_PKG_VERSION")),
+            pairs(&self.overrides),
+            pairs(&self.parameters),
+            json_number(self.threshold),
+            json_string(&self.regime)
+        )
+    }
+
+    /// The header line of a text output: the file, its overrides and the regime.
+    pub fn text_line(&self) -> String {
+        let mut t = format!("model {}", self.file);
+        if !self.overrides.is_empty() {
+            let o: Vec<String> = self
+                .overrides
+                .iter()
+                .map(|(n, v)| format!("{n}={v}"))
+                .collect();
+            t.push_str(&format!(" with --set {}", o.join(" ")));
+        }
+        t.push_str(&format!(
+            " (sha256 {})",
+            &self.sha256[..self.sha256.len().min(12)]
+        ));
+        t
+    }
+}
+
+/// Lower-case hex SHA-256 of `bytes`.
+pub fn sha256_hex(bytes: &[u8]) -> String {
+    use sha2::{Digest, Sha256};
+    let d = Sha256::digest(bytes);
+    d.iter().map(|b| format!("{b:02x}")).collect()
+}
+
 /// A JSON number, or `null` when not finite or absent.
 pub fn json_number(x: Option<f64>) -> String {
     match x {
@@ -49,16 +113,18 @@ pub fn solve_json(
     regime: Regime,
     expected_loss: Option<f64>,
     multipliers: &[String],
+    provenance: Option<&Provenance>,
 ) -> String {
     let mults: Vec<String> = multipliers.iter().map(|m| json_string(m)).collect();
-    append_fields(
-        &super::solve::json(s),
-        &[
-            ("regime", json_string(regime.as_str())),
-            ("expected_loss", json_number(expected_loss)),
-            ("multipliers", format!("[{}]", mults.join(", "))),
-        ],
-    )
+    let mut fields = vec![
+        ("regime", json_string(regime.as_str())),
+        ("expected_loss", json_number(expected_loss)),
+        ("multipliers", format!("[{}]", mults.join(", "))),
+    ];
+    if let Some(p) = provenance {
+        fields.push(("provenance", p.json()));
+    }
+    append_fields(&super::solve::json(s), &fields)
 }
 
 /// The lines the text output of `solve` gains under a regime.
@@ -189,11 +255,13 @@ pub fn optimize_text(
     title: Option<&str>,
     regimes: &[RegimeView],
     tuned: Option<&TunedView>,
+    provenance: &Provenance,
 ) -> String {
     let mut t = String::new();
     if let Some(title) = title {
         t.push_str(&format!("{title}\n"));
     }
+    t.push_str(&format!("{}\n", provenance.text_line()));
     t.push_str("optimal policy: the regimes side by side\n\n");
     let c = commitment_loss(regimes);
     t.push_str(&format!(
@@ -242,9 +310,13 @@ pub fn optimize_text(
                     .roots
                     .iter()
                     .map(|r| match r.modulus {
-                        Some(m) if r.im.abs() > 0.0 => {
-                            format!("{}{:+}i (|{}|)", fmt_num(r.re), fmt_num(r.im), fmt_num(m))
-                        }
+                        Some(m) if r.im.abs() > 0.0 => format!(
+                            "{}{}{}i (modulus {})",
+                            fmt_num(r.re),
+                            if r.im < 0.0 { "-" } else { "+" },
+                            fmt_num(r.im.abs()),
+                            fmt_num(m)
+                        ),
                         Some(_) => fmt_num(r.re),
                         None => "inf".into(),
                     })
@@ -275,7 +347,11 @@ pub fn optimize_text(
 }
 
 /// JSON of `optimize`: `{"regimes": {"rule": {...}, ...}, "tuned": {...} | null}`.
-pub fn optimize_json(regimes: &[RegimeView], tuned: Option<&TunedView>) -> String {
+pub fn optimize_json(
+    regimes: &[RegimeView],
+    tuned: Option<&TunedView>,
+    provenance: &Provenance,
+) -> String {
     let c = commitment_loss(regimes);
     let mut parts = Vec::new();
     for r in regimes {
@@ -288,7 +364,7 @@ pub fn optimize_json(regimes: &[RegimeView], tuned: Option<&TunedView>) -> Strin
                     .map(|e| json_string(&e))
                     .collect();
                 append_fields(
-                    &solve_json(d.solved, r.regime, d.expected_loss, d.multipliers),
+                    &solve_json(d.solved, r.regime, d.expected_loss, d.multipliers, None),
                     &[
                         (
                             "ratio_to_commitment",
@@ -338,9 +414,65 @@ pub fn optimize_json(regimes: &[RegimeView], tuned: Option<&TunedView>) -> Strin
         None => "null".into(),
     };
     format!(
-        "{{\"regimes\": {{\n{}}},\n\"tuned\": {},\n\"provenance\": {{\"program\": \"saddle\", \"version\": {}, \"note\": \"conditional on the model, its calibration and its objective\"}}}}\n",
+        "{{\"regimes\": {{\n{}}},\n\"tuned\": {},\n\"provenance\": {}}}\n",
         parts.join(",\n"),
         tuned,
-        json_string(env!("CARGO_PKG_VERSION"))
+        provenance.json()
     )
+}
+
+/// The lines `sweep`'s text summary gains under a regime or with `--measure loss`: the regime
+/// and, with `loss`, the point of least expected loss and how many points have none.
+pub fn sweep_loss_note(
+    r: &crate::analysis::sweep::SweepResult,
+    regime: Regime,
+    loss: bool,
+) -> String {
+    let mut t = format!("\npolicy regime: {}\n", regime.as_str());
+    if !loss {
+        return t;
+    }
+    let best = r
+        .points
+        .iter()
+        .filter_map(|p| p.expected_loss.filter(|v| v.is_finite()).map(|v| (p, v)))
+        .min_by(|a, b| a.1.partial_cmp(&b.1).unwrap_or(std::cmp::Ordering::Equal));
+    let without = r
+        .points
+        .iter()
+        .filter(|p| p.expected_loss.is_none())
+        .count();
+    match best {
+        Some((p, v)) => {
+            let at: Vec<String> = r
+                .parameters
+                .iter()
+                .zip(&p.values)
+                .map(|(n, x)| format!("{n} = {}", fmt_num(*x)))
+                .collect();
+            t.push_str(&format!(
+                "least expected loss on the grid: {} at {}\n",
+                fmt_num(v),
+                at.join(", ")
+            ));
+        }
+        None => t.push_str("no grid point has an expected loss\n"),
+    }
+    t.push_str(&format!(
+        "{without} point(s) without an expected loss (no unique stable solution there)\n"
+    ));
+    t
+}
+
+/// A regime in words, for a person.
+pub fn regime_words(regime: Regime) -> &'static str {
+    match regime {
+        Regime::Rule => "rule (the model as written; each control follows its simple rule)",
+        Regime::Commitment => {
+            "commitment (timeless-perspective optimal plan; Lagrange multipliers as states)"
+        }
+        Regime::Discretion => {
+            "discretion (Markov-perfect optimal policy, re-optimised each period)"
+        }
+    }
 }
