@@ -96,6 +96,7 @@ pub fn run(args: IrfArgs) -> Result<Outcome, Failure> {
         Format::Json => render::json_with_warnings(&r, &s.solved.warnings),
         Format::Csv => render::csv(&r),
     };
+    let text = super::solve::with_regime(text, args.format, &s);
     emit(args.out.output.as_deref(), text.as_bytes())?;
     if let Some(path) = &args.plot {
         let grids = charts::impulse_response_grids(

@@ -71,6 +71,7 @@ pub fn run(args: MomentsArgs) -> Result<Outcome, Failure> {
         Format::Json => render::to_json(&m).to_pretty_string(),
         Format::Csv => render::to_csv(&m),
     };
+    let text = super::solve::with_regime(text, args.format, &s);
     emit(args.out.output.as_deref(), text.as_bytes())?;
     if settings.timings {
         print_timings(&s, t0.elapsed());

@@ -30,6 +30,10 @@ const GRID_BUDGET: f64 = 1700.0;
 const GOLDEN_STEPS: usize = 30;
 /// Rounds of golden-section refinement.
 const ROUNDS: usize = 3;
+/// Step (relative to the search range) at which the best point is probed for a neighbouring
+/// point without a unique stable solution. 1e-4 is below the grid cell (1/40) and far above
+/// the golden-section resolution.
+const EDGE_STEP: f64 = 1e-4;
 
 fn parse_tune(s: &str) -> Result<(String, f64, f64), Failure> {
     let bad = || Failure::usage(format!("--tune expects NAME=LO:HI with LO < HI, got `{s}`"));
@@ -159,7 +163,25 @@ fn tune(
             }
         }
     }
+    // Whether the best point borders the region without a unique stable solution: a step of
+    // EDGE_STEP of the range to either side (inside the bounds) has no loss.
+    let mut edge = vec![false; k];
+    if best.0.is_finite() {
+        for d in 0..k {
+            let step = EDGE_STEP * (specs[d].2 - specs[d].1);
+            for v in [best.1[d] - step, best.1[d] + step] {
+                if v >= specs[d].1 && v <= specs[d].2 {
+                    let mut x = best.1.clone();
+                    x[d] = v;
+                    if !ev.loss(&x).is_finite() {
+                        edge[d] = true;
+                    }
+                }
+            }
+        }
+    }
     Ok(TunedView {
+        edge,
         parameters: specs
             .iter()
             .zip(&best.1)

@@ -69,6 +69,7 @@ pub fn run(args: SimulateArgs) -> Result<Outcome, Failure> {
         (Format::Json, _) => render::to_json(&sim).to_pretty_string(),
         (Format::Text, _) => render::to_text(&sim),
     };
+    let text = super::solve::with_regime(text, args.format, &s);
     emit(args.out.output.as_deref(), text.as_bytes())?;
     if let Some(path) = &args.plot {
         let title = match &s.solved.title {

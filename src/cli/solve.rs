@@ -236,3 +236,38 @@ pub fn outcome(s: &SolvedModel) -> Outcome {
         Outcome::NoUniqueSolution
     }
 }
+
+/// The output of a solving command with what a regime adds: for a model with an objective,
+/// JSON gains `regime`, `expected_loss` and `provenance` (unless it has one) as last fields and
+/// text a line with the regime, the expected loss and the file; CSV stays a plain table.
+pub fn with_regime(text: String, format: Format, s: &Solved) -> String {
+    let Some(p) = &s.policy else {
+        return text;
+    };
+    match format {
+        Format::Csv => text,
+        Format::Json => {
+            let mut fields = vec![
+                (
+                    "regime",
+                    saddle::output::policy::json_string(p.regime.as_str()),
+                ),
+                (
+                    "expected_loss",
+                    saddle::output::policy::json_number(p.expected_loss),
+                ),
+            ];
+            if !text.contains("\"provenance\"") {
+                fields.push(("provenance", s.provenance.json()));
+            }
+            saddle::output::policy::append_fields(&text, &fields)
+        }
+        Format::Text => format!(
+            "{text}\npolicy regime: {}; expected loss {}\n{}\n",
+            p.regime.as_str(),
+            p.expected_loss
+                .map_or("none".to_string(), saddle::output::policy::fmt_num),
+            s.provenance.text_line()
+        ),
+    }
+}

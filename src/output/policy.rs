@@ -233,6 +233,15 @@ pub struct TunedView {
     /// Points without a unique stable solution (counted as infinitely bad).
     pub infeasible: usize,
     pub method: String,
+    /// Per parameter: the best point borders points without a unique stable solution.
+    pub edge: Vec<bool>,
+}
+
+/// Whether a tuned value sits at an end of its search range (within 1e-6 of the range's width:
+/// golden-section search converging to an end stops a few 1e-7 of a grid cell short of it).
+fn at_bound(v: f64, lo: f64, hi: f64) -> bool {
+    let w = hi - lo;
+    (v - lo).abs() <= 1e-6 * w || (hi - v).abs() <= 1e-6 * w
 }
 
 fn ratio(l: Option<f64>, c: Option<f64>) -> Option<f64> {
@@ -331,10 +340,20 @@ pub fn optimize_text(
     }
     if let Some(tu) = tuned {
         t.push_str("\ntuned simple rule:\n");
-        for (name, v, lo, hi) in &tu.parameters {
+        for (k, (name, v, lo, hi)) in tu.parameters.iter().enumerate() {
             t.push_str(&format!(
-                "  {name} = {} (searched {lo} to {hi})\n",
-                fmt_num(*v)
+                "  {name} = {} (searched {lo} to {hi}){}{}\n",
+                fmt_num(*v),
+                if at_bound(*v, *lo, *hi) {
+                    "; at an end of the range, so the least loss may lie beyond it"
+                } else {
+                    ""
+                },
+                if tu.edge.get(k).copied().unwrap_or(false) {
+                    "; at the edge of the region with a unique stable solution (the loss falls towards a point where the rule no longer determines the economy)"
+                } else {
+                    ""
+                }
             ));
         }
         t.push_str(&format!(
@@ -391,13 +410,16 @@ pub fn optimize_json(
             let ps: Vec<String> = tu
                 .parameters
                 .iter()
-                .map(|(n, v, lo, hi)| {
+                .enumerate()
+                .map(|(k, (n, v, lo, hi))| {
                     format!(
-                        "{}: {{\"value\": {}, \"lo\": {}, \"hi\": {}}}",
+                        "{}: {{\"value\": {}, \"lo\": {}, \"hi\": {}, \"at_bound\": {}, \"at_edge\": {}}}",
                         json_string(n),
                         json_number(Some(*v)),
                         json_number(Some(*lo)),
-                        json_number(Some(*hi))
+                        json_number(Some(*hi)),
+                        at_bound(*v, *lo, *hi),
+                        tu.edge.get(k).copied().unwrap_or(false)
                     )
                 })
                 .collect();

@@ -251,6 +251,22 @@ fn tuning_the_rule_never_beats_commitment_and_stays_in_bounds() {
             .unwrap()
             > 1.0
     );
+    // The gap response: the loss falls towards the edge of determinacy (near phi_y = -0.2),
+    // and the report says the best point sits there; re-solving just beyond it fails.
+    let e = json(&[
+        "optimize",
+        MODEL,
+        "--tune",
+        "phi_y=-1:1",
+        "--format",
+        "json",
+    ]);
+    let t = &e["tuned"]["parameters"]["phi_y"];
+    assert_eq!(t["at_edge"], true, "{t}");
+    assert_eq!(t["at_bound"], false, "{t}");
+    let beyond = t["value"].as_f64().unwrap() - 1e-3;
+    let o = saddle(&["solve", MODEL, "--set", &format!("phi_y={beyond:?}")]);
+    assert_eq!(code(&o), 3, "{}", text(&o.stdout));
 }
 
 #[test]
@@ -270,6 +286,9 @@ fn every_solving_command_takes_a_regime() {
     let want = c.alpha * psi * c.sd / (1.0 - c.rho * c.rho).sqrt();
     let got = v["std"]["infl"].as_f64().unwrap();
     assert!((got - want).abs() <= 1e-8 * want, "{got} vs {want}");
+    assert_eq!(v["regime"], "discretion");
+    assert_eq!(v["provenance"]["regime"], "discretion");
+    assert_eq!(v["expected_loss"], s["expected_loss"]);
     for regime in ["commitment", "discretion"] {
         let o = saddle(&[
             "simulate",
