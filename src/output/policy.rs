@@ -498,3 +498,52 @@ pub fn regime_words(regime: Regime) -> &'static str {
         }
     }
 }
+
+/// The HTML body of the report's optimal-policy section: the regimes side by side (expected
+/// loss, ratio to commitment, each control's rule in the states, the roots' count and largest
+/// stable modulus), the regimes that failed with why, and what the numbers are conditional on.
+pub fn report_section(regimes: &[RegimeView]) -> String {
+    use super::svg::escape;
+    let c = commitment_loss(regimes);
+    let mut h = String::new();
+    h.push_str("<p>The model's objective solved three ways: its simple rule as written, the optimal plan with commitment (timeless perspective) and the optimal policy under discretion (Markov-perfect). The expected loss is the unconditional mean of the period loss.</p>\n");
+    h.push_str("<table>\n<thead><tr><th>regime</th><th class=\"num\">expected loss</th><th class=\"num\">ratio to commitment</th><th>rule of each control (deviations from the steady state)</th></tr></thead>\n<tbody>\n");
+    for r in regimes {
+        match &r.result {
+            Ok(d) => {
+                let rules: Vec<String> = d
+                    .controls
+                    .iter()
+                    .filter_map(|&cv| rule_equation(d.solved, cv))
+                    .map(|e| format!("<code>{}</code>", escape(&e)))
+                    .collect();
+                h.push_str(&format!(
+                    "<tr><td>{}</td><td class=\"num\">{}</td><td class=\"num\">{}</td><td>{}</td></tr>\n",
+                    escape(regime_words(r.regime)),
+                    d.expected_loss.map_or("none".into(), fmt_num),
+                    ratio(d.expected_loss, c).map_or("-".into(), fmt_num),
+                    if rules.is_empty() {
+                        format!("no unique stable solution ({})", escape(d.solved.status.as_str()))
+                    } else {
+                        rules.join("<br>")
+                    }
+                ));
+            }
+            Err(e) => h.push_str(&format!(
+                "<tr><td>{}</td><td class=\"num\">failed</td><td class=\"num\">-</td><td>{}</td></tr>\n",
+                escape(regime_words(r.regime)),
+                escape(e)
+            )),
+        }
+    }
+    h.push_str("</tbody>\n</table>\n");
+    for r in regimes {
+        if let Ok(d) = &r.result {
+            for w in &d.solved.warnings {
+                h.push_str(&format!("<p class=\"note\">{}</p>\n", escape(w)));
+            }
+        }
+    }
+    h.push_str("<p class=\"note\">Conditional on the model, its calibration and its objective. <code>saddle optimize</code> gives the same comparison with the roots, and <code>--tune</code> searches the simple rule's coefficients.</p>\n");
+    h
+}
