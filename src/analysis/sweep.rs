@@ -47,6 +47,9 @@ pub struct SweepPoint {
     pub largest_stable_modulus: Option<f64>,
     /// Why the point failed (only for `error`).
     pub message: Option<String>,
+    /// Expected loss of the model's objective (`sweep --measure loss`; `None` otherwise or
+    /// where there is no unique stable solution).
+    pub expected_loss: Option<f64>,
 }
 
 /// Every grid point, row-major (the first parameter varies slowest).
@@ -141,6 +144,7 @@ pub fn point_from_solved(values: Vec<f64>, solved: &SolvedModel) -> SweepPoint {
         forward_looking: Some(solved.counts.forward_looking),
         largest_stable_modulus: largest,
         message: None,
+        expected_loss: None,
     }
 }
 
@@ -153,6 +157,7 @@ pub fn error_point(values: Vec<f64>, message: impl Into<String>) -> SweepPoint {
         forward_looking: None,
         largest_stable_modulus: None,
         message: Some(message.into()),
+        expected_loss: None,
     }
 }
 

@@ -252,11 +252,24 @@ pub struct SweepArgs {
     /// Parameter and grid: NAME=LO:HI:N (N evenly spaced values, inclusive); once or twice.
     #[arg(long, value_name = "NAME=LO:HI:N", required = true)]
     pub vary: Vec<String>,
-    /// Draw the grid coloured by status (SVG).
+    /// Draw the grid coloured by status (SVG); shaded by expected loss with `--measure loss`.
     #[arg(long, value_name = "PATH.svg")]
     pub plot: Option<PathBuf>,
+    /// What each point reports: the solution status, or also the expected loss of the
+    /// objective (`loss`; the model needs an `objective` section).
+    #[arg(long, value_enum, default_value_t = Measure::Status)]
+    pub measure: Measure,
     #[arg(long, value_enum, default_value_t = Format::Text)]
     pub format: Format,
     #[command(flatten)]
     pub out: OutputArgs,
+}
+
+/// What `sweep` measures at each grid point.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, ValueEnum)]
+pub enum Measure {
+    /// Status, counts and the largest stable modulus.
+    Status,
+    /// Also the expected loss (unconditional mean of the period loss).
+    Loss,
 }

@@ -79,6 +79,7 @@ pub fn run(args: IrfArgs) -> Result<Outcome, Failure> {
         Format::Json => render::json_with_warnings(&r, &s.solved.warnings),
         Format::Csv => render::csv(&r),
     };
+    let text = super::solve::with_regime(text, args.format, &s);
     super::output::emit_traced(
         args.out.output.as_deref(),
         args.format,

@@ -93,6 +93,7 @@ pub fn run(args: MomentsArgs) -> Result<Outcome, Failure> {
         Format::Json => render::to_json(&m).to_pretty_string(),
         Format::Csv => render::to_csv(&m),
     };
+    let text = super::solve::with_regime(text, args.format, &s);
     super::output::emit_traced(
         args.out.output.as_deref(),
         args.format,

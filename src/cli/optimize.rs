@@ -15,7 +15,7 @@ use super::args::{Format, OptimizeArgs};
 use super::config::SolveSettings;
 use super::load::load_model;
 use super::output::{emit, eprintln_quiet};
-use super::solve::{apply_overrides, options, policy_failure};
+use super::solve::{apply_overrides, options, policy_failure, provenance};
 use super::{Failure, Outcome};
 use saddle::model::Model;
 use saddle::output::policy::{optimize_json, optimize_text, RegimeData, RegimeView, TunedView};
@@ -30,6 +30,10 @@ const GRID_BUDGET: f64 = 1700.0;
 const GOLDEN_STEPS: usize = 30;
 /// Rounds of golden-section refinement.
 const ROUNDS: usize = 3;
+/// Step (relative to the search range) at which the best point is probed for a neighbouring
+/// point without a unique stable solution. 1e-4 is below the grid cell (1/40) and far above
+/// the golden-section resolution.
+const EDGE_STEP: f64 = 1e-4;
 
 fn parse_tune(s: &str) -> Result<(String, f64, f64), Failure> {
     let bad = || Failure::usage(format!("--tune expects NAME=LO:HI with LO < HI, got `{s}`"));
@@ -159,7 +163,25 @@ fn tune(
             }
         }
     }
+    // Whether the best point borders the region without a unique stable solution: a step of
+    // EDGE_STEP of the range to either side (inside the bounds) has no loss.
+    let mut edge = vec![false; k];
+    if best.0.is_finite() {
+        for d in 0..k {
+            let step = EDGE_STEP * (specs[d].2 - specs[d].1);
+            for v in [best.1[d] - step, best.1[d] + step] {
+                if v >= specs[d].1 && v <= specs[d].2 {
+                    let mut x = best.1.clone();
+                    x[d] = v;
+                    if !ev.loss(&x).is_finite() {
+                        edge[d] = true;
+                    }
+                }
+            }
+        }
+    }
     Ok(TunedView {
+        edge,
         parameters: specs
             .iter()
             .zip(&best.1)
@@ -181,6 +203,11 @@ pub fn run(args: OptimizeArgs) -> Result<Outcome, Failure> {
             "optimize solves every regime itself; --regime does not apply",
         ));
     }
+    if args.format == Format::Csv {
+        return Err(Failure::usage(
+            "optimize prints text or JSON (--format text|json); it has no single table for CSV",
+        ));
+    }
     let specs = args
         .tune
         .iter()
@@ -192,8 +219,10 @@ pub fn run(args: OptimizeArgs) -> Result<Outcome, Failure> {
         )));
     }
     let t0 = Instant::now();
-    let (model, _source) = load_model(&args.file)?;
+    let (model, source) = load_model(&args.file)?;
     let model = apply_overrides(model, &settings.overrides)?;
+    let mut prov = provenance(&args.file, &source, &model, &settings, None);
+    prov.regime = "all".into();
     let objective = model.objective.as_ref().ok_or_else(|| {
         Failure::new(
             Outcome::ModelError,
@@ -210,6 +239,10 @@ pub fn run(args: OptimizeArgs) -> Result<Outcome, Failure> {
             Ok(r) => results.push((regime, Ok(r))),
             Err(e) => {
                 let f = policy_failure(e);
+                // A wrong objective is wrong for every regime: no side-by-side output.
+                if f.outcome == Outcome::ModelError {
+                    return Err(f);
+                }
                 if regime != Regime::Rule && first_error.is_none() {
                     first_error = Some(f.outcome);
                 }
@@ -217,6 +250,10 @@ pub fn run(args: OptimizeArgs) -> Result<Outcome, Failure> {
             }
         }
     }
+    prov.threshold = results.iter().find_map(|(regime, r)| match r {
+        Ok(r) if *regime == Regime::Commitment => Some(r.solved.threshold),
+        _ => None,
+    });
     let tuned = if specs.is_empty() {
         None
     } else {
@@ -238,8 +275,8 @@ pub fn run(args: OptimizeArgs) -> Result<Outcome, Failure> {
         })
         .collect();
     let text = match args.format {
-        Format::Json => optimize_json(&views, tuned.as_ref()),
-        _ => optimize_text(model.title.as_deref(), &views, tuned.as_ref()),
+        Format::Json => optimize_json(&views, tuned.as_ref(), &prov),
+        _ => optimize_text(model.title.as_deref(), &views, tuned.as_ref(), &prov),
     };
     emit(args.out.output.as_deref(), text.as_bytes())?;
     if settings.timings {

@@ -95,6 +95,19 @@ pub fn run(args: ReportArgs) -> Result<Outcome, Failure> {
             format!("{horizon} periods"),
         ),
     ];
+    if let Some(p) = &s.policy {
+        run_settings.push((
+            "policy regime".to_string(),
+            saddle::output::policy::regime_words(p.regime).to_string(),
+        ));
+        run_settings.push((
+            "expected loss".to_string(),
+            p.expected_loss.map_or(
+                "none (no stationary distribution)".to_string(),
+                saddle::output::policy::fmt_num,
+            ),
+        ));
+    }
     if !settings.overrides.is_empty() {
         run_settings.push((
             "command-line overrides".to_string(),
@@ -107,7 +120,12 @@ pub fn run(args: ReportArgs) -> Result<Outcome, Failure> {
         ));
     }
     let source = args.file.display().to_string();
+    let policy_html = match &s.policy {
+        Some(_) => Some(policy_section(&args.file, &settings)?),
+        None => None,
+    };
     let html = render(&ReportInput {
+        policy_html,
         source: &source,
         model,
         solved,
@@ -139,4 +157,46 @@ pub fn run(args: ReportArgs) -> Result<Outcome, Failure> {
     });
     write_atomic(&args.output, html.as_bytes())?;
     Ok(outcome(solved))
+}
+
+/// The report's optimal-policy section: the model as written (overrides applied) solved under
+/// each regime; a regime that fails shows why.
+fn policy_section(file: &std::path::Path, settings: &SolveSettings) -> Result<String, Failure> {
+    use saddle::output::policy::{report_section, RegimeData, RegimeView};
+    use saddle::policy::{solve_regime, PolicyParams, Regime};
+    let (model, _) = super::load::load_model(file)?;
+    let model = super::solve::apply_overrides(model, &settings.overrides)?;
+    let controls: Vec<usize> = model
+        .objective
+        .as_ref()
+        .map(|o| o.controls.iter().map(|c| c.variable).collect())
+        .unwrap_or_default();
+    let opts = super::solve::options(settings);
+    let results: Vec<(Regime, Result<_, String>)> =
+        [Regime::Rule, Regime::Commitment, Regime::Discretion]
+            .into_iter()
+            .map(|r| {
+                (
+                    r,
+                    solve_regime(&model, r, &opts, &PolicyParams::default())
+                        .map_err(|e| super::solve::policy_failure(e).message),
+                )
+            })
+            .collect();
+    let views: Vec<RegimeView> = results
+        .iter()
+        .map(|(regime, r)| RegimeView {
+            regime: *regime,
+            result: match r {
+                Ok(r) => Ok(RegimeData {
+                    solved: &r.solved,
+                    expected_loss: r.expected_loss,
+                    multipliers: &r.multipliers,
+                    controls: &controls,
+                }),
+                Err(e) => Err(e.clone()),
+            },
+        })
+        .collect();
+    Ok(report_section(&views))
 }

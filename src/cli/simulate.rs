@@ -68,6 +68,7 @@ pub fn run(args: SimulateArgs) -> Result<Outcome, Failure> {
         (Format::Json, _) => render::to_json(&sim).to_pretty_string(),
         (Format::Text, _) => render::to_text(&sim),
     };
+    let text = super::solve::with_regime(text, args.format, &s);
     super::output::emit_traced(
         args.out.output.as_deref(),
         args.format,

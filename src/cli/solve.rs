@@ -11,6 +11,7 @@ use super::load::load_model;
 use super::output::eprintln_quiet;
 use super::{Failure, Outcome};
 use saddle::model::Model;
+use saddle::output::provenance::Provenance;
 use saddle::output::solve as render;
 use saddle::policy::{rule_expected_loss, solve_regime, PolicyError, PolicyParams, Regime};
 use saddle::solution::{
@@ -26,8 +27,8 @@ pub struct Solved {
     /// Regime, expected loss and multipliers (`None` for a model without objective solved by
     /// its rules).
     pub policy: Option<PolicyInfo>,
-    /// Where the results come from (file, hash, overrides, parameters, threshold, regime).
-    pub provenance: saddle::output::provenance::Provenance,
+    /// File, its hash, overrides, parameters, threshold and regime.
+    pub provenance: Provenance,
 }
 
 /// What an optimal-policy regime adds to a solve.
@@ -91,21 +92,31 @@ pub fn failure(e: SolveError) -> Failure {
     }
 }
 
+/// The provenance of an output made from `model` (overrides applied) read from `file` with text
+/// `source`; the threshold is filled in once solved.
+pub fn provenance(
+    file: &Path,
+    source: &str,
+    model: &Model,
+    settings: &SolveSettings,
+    threshold: Option<f64>,
+) -> Provenance {
+    Provenance::new(
+        &file.display().to_string(),
+        source.as_bytes(),
+        model,
+        &settings.overrides,
+        threshold,
+        settings.regime.as_str(),
+    )
+}
+
 /// Reads `file`, applies the settings' overrides and solves.
 pub fn load_and_solve(file: &Path, settings: &SolveSettings) -> Result<Solved, Failure> {
     let t0 = Instant::now();
     let (model, source) = load_model(file)?;
     let model = apply_overrides(model, &settings.overrides)?;
-    let trace = |model: &Model, solved: &SolvedModel| {
-        saddle::output::provenance::Provenance::new(
-            &file.display().to_string(),
-            source.as_bytes(),
-            model,
-            &settings.overrides,
-            solved.threshold,
-            settings.regime.as_str(),
-        )
-    };
+    let mut provenance = provenance(file, &source, &model, settings, None);
     let load_time = t0.elapsed();
     if settings.regime != Regime::Rule {
         let t1 = Instant::now();
@@ -121,8 +132,8 @@ pub fn load_and_solve(file: &Path, settings: &SolveSettings) -> Result<Solved, F
             solution: t1.elapsed(),
             ..Timings::default()
         };
+        provenance.threshold = Some(r.solved.threshold);
         return Ok(Solved {
-            provenance: trace(&model, &r.solved),
             model: r.model,
             solved: r.solved,
             timings,
@@ -132,6 +143,7 @@ pub fn load_and_solve(file: &Path, settings: &SolveSettings) -> Result<Solved, F
                 expected_loss: r.expected_loss,
                 multipliers: r.multipliers,
             }),
+            provenance,
         });
     }
     let prepared = PreparedModel::new(&model).map_err(failure)?;
@@ -147,13 +159,14 @@ pub fn load_and_solve(file: &Path, settings: &SolveSettings) -> Result<Solved, F
     } else {
         None
     };
+    provenance.threshold = Some(solved.threshold);
     Ok(Solved {
-        provenance: trace(&model, &solved),
         model,
         solved,
         timings,
         load_time,
         policy,
+        provenance,
     })
 }
 
@@ -197,6 +210,7 @@ pub fn run(args: SolveArgs) -> Result<Outcome, Failure> {
                 p.regime,
                 p.expected_loss,
                 &p.multipliers,
+                Some(&s.provenance),
             ),
             None => render::json(&s.solved),
         },
@@ -220,5 +234,40 @@ pub fn outcome(s: &SolvedModel) -> Outcome {
         Outcome::Success
     } else {
         Outcome::NoUniqueSolution
+    }
+}
+
+/// The output of a solving command with what a regime adds: for a model with an objective,
+/// JSON gains `regime`, `expected_loss` and `provenance` (unless it has one) as last fields and
+/// text a line with the regime, the expected loss and the file; CSV stays a plain table.
+pub fn with_regime(text: String, format: Format, s: &Solved) -> String {
+    let Some(p) = &s.policy else {
+        return text;
+    };
+    match format {
+        Format::Csv => text,
+        Format::Json => {
+            let mut fields = vec![
+                (
+                    "regime",
+                    saddle::output::policy::json_string(p.regime.as_str()),
+                ),
+                (
+                    "expected_loss",
+                    saddle::output::policy::json_number(p.expected_loss),
+                ),
+            ];
+            if !text.contains("\"provenance\"") {
+                fields.push(("provenance", s.provenance.json_text()));
+            }
+            saddle::output::policy::append_fields(&text, &fields)
+        }
+        // The provenance line follows (`output::emit_traced`).
+        Format::Text => format!(
+            "{text}\npolicy regime: {}; expected loss {}\n",
+            p.regime.as_str(),
+            p.expected_loss
+                .map_or("none".to_string(), saddle::output::policy::fmt_num),
+        ),
     }
 }

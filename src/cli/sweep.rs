@@ -8,15 +8,18 @@ use std::time::{Duration, Instant};
 
 use indicatif::{ProgressBar, ProgressDrawTarget, ProgressStyle};
 
-use super::args::{Format, SweepArgs};
+use super::args::{Format, Measure, SweepArgs};
 use super::config::{parse_vary, SolveSettings};
 use super::load::load_model;
 use super::output::{emit, eprintln_quiet};
 use super::solve::{apply_overrides, failure, options};
 use super::{Failure, Outcome};
-use saddle::analysis::sweep::{sweep_model, SweepAxis, SweepError};
+use saddle::analysis::sweep::{
+    error_point, point_from_solved, run_sweep, sweep_model, SweepAxis, SweepError,
+};
 use saddle::output::svg::charts;
 use saddle::output::sweep as render;
+use saddle::policy::{rule_expected_loss, solve_regime, PolicyError, PolicyParams, Regime};
 use saddle::solution::PreparedModel;
 
 /// The bar appears only once a sweep has run this long (a short sweep stays silent).
@@ -85,13 +88,60 @@ pub fn run(args: SweepArgs) -> Result<Outcome, Failure> {
             None => {}
         }
     };
-    let result = sweep_model(
-        &model,
-        &prepared,
-        &options(&settings),
-        &sweep_axes,
-        &progress,
-    )
+    let measure_loss = args.measure == Measure::Loss;
+    if measure_loss && model.objective.is_none() {
+        return Err(Failure::new(
+            Outcome::ModelError,
+            "--measure loss needs an objective section in the model (the loss to measure)",
+        ));
+    }
+    let opts = options(&settings);
+    let policy_params = PolicyParams::default();
+    let result = if settings.regime == Regime::Rule && !measure_loss {
+        sweep_model(&model, &prepared, &opts, &sweep_axes, &progress)
+    } else {
+        // Each point: the overrides, then the regime's solution and (if asked) its loss.
+        run_sweep(
+            &sweep_axes,
+            |values| {
+                let overrides: Vec<(String, f64)> = sweep_axes
+                    .iter()
+                    .zip(values)
+                    .map(|(a, v)| (a.name.clone(), *v))
+                    .collect();
+                let m = match model.with_overrides(&overrides) {
+                    Ok(m) => m,
+                    Err(e) => return error_point(values.to_vec(), e.to_string()),
+                };
+                if settings.regime == Regime::Rule {
+                    return match prepared.solve(&m, &opts) {
+                        Ok((solved, _)) => {
+                            let mut p = point_from_solved(values.to_vec(), &solved);
+                            p.expected_loss = rule_expected_loss(&m, &solved).ok().flatten();
+                            p
+                        }
+                        Err(e) => error_point(values.to_vec(), e.to_string()),
+                    };
+                }
+                match solve_regime(&m, settings.regime, &opts, &policy_params) {
+                    Ok(r) => {
+                        let mut p = point_from_solved(values.to_vec(), &r.solved);
+                        if measure_loss && r.solved.solution.is_some() {
+                            p.expected_loss = r.expected_loss;
+                        }
+                        p
+                    }
+                    Err(e @ PolicyError::DiscretionUnstable { .. }) => {
+                        let mut p = error_point(values.to_vec(), e.to_string());
+                        p.status = "no_stable_solution".into();
+                        p
+                    }
+                    Err(e) => error_point(values.to_vec(), e.to_string()),
+                }
+            },
+            &progress,
+        )
+    }
     .map_err(|e| match e {
         SweepError::UnknownParameter(_)
         | SweepError::AxisCount(_)
@@ -106,23 +156,48 @@ pub fn run(args: SweepArgs) -> Result<Outcome, Failure> {
     let sweep_time = start.elapsed();
     let t0 = Instant::now();
     let text = match args.format {
-        Format::Csv => render::to_csv(&result),
-        Format::Json => render::to_json(&result).to_pretty_string(),
-        Format::Text => render::to_text(&result),
+        Format::Csv => render::to_csv_with(&result, measure_loss),
+        Format::Json => render::to_json_with(&result, measure_loss).to_pretty_string(),
+        Format::Text => {
+            let mut t = render::to_text(&result);
+            if measure_loss || settings.regime != Regime::Rule {
+                t.push_str(&saddle::output::policy::sweep_loss_note(
+                    &result,
+                    settings.regime,
+                    measure_loss,
+                ));
+            }
+            t
+        }
     };
+    // The plot is built before anything is written, so a failure leaves no half of the pair.
+    let svg = args.plot.as_ref().map(|_| {
+        let source = args.file.display().to_string();
+        if measure_loss {
+            let title = match &model.title {
+                Some(t) => format!("Expected loss ({}): {t}", settings.regime.as_str()),
+                None => format!(
+                    "Expected loss over the parameter grid ({})",
+                    settings.regime.as_str()
+                ),
+            };
+            saddle::output::svg::loss_map(&title, &result, &source)
+        } else {
+            let title = match &model.title {
+                Some(t) => format!("Solution status: {t}"),
+                None => "Solution status over the parameter grid".to_string(),
+            };
+            charts::sweep_chart(
+                &title,
+                &result.parameters,
+                &result.axes,
+                result.points.iter().map(|p| p.status.clone()).collect(),
+                &source,
+            )
+        }
+    });
     emit(args.out.output.as_deref(), text.as_bytes())?;
-    if let Some(path) = &args.plot {
-        let title = match &model.title {
-            Some(t) => format!("Solution status: {t}"),
-            None => "Solution status over the parameter grid".to_string(),
-        };
-        let svg = charts::sweep_chart(
-            &title,
-            &result.parameters,
-            &result.axes,
-            result.points.iter().map(|p| p.status.clone()).collect(),
-            &args.file.display().to_string(),
-        );
+    if let (Some(path), Some(svg)) = (&args.plot, svg) {
         super::output::write_atomic(path, svg.as_bytes())?;
     }
     if settings.timings {

@@ -245,6 +245,9 @@ impl<'a> Checker<'a> {
             o.controls.iter().filter(|c| c.replaces.is_none()).count()
         });
         self.check_counts(free_controls);
+        if let Some(o) = &objective {
+            self.check_objective_has_a_problem(o);
+        }
         let cov = self.check_covariance(&parameters);
         let steady = self.check_steady(&parameters);
         let options = self.check_options(&parameters);

@@ -8,6 +8,8 @@
 use crate::policy::Regime;
 use crate::solution::SolvedModel;
 
+pub use super::provenance::{sha256_hex, Provenance};
+
 /// A JSON number, or `null` when not finite or absent.
 pub fn json_number(x: Option<f64>) -> String {
     match x {
@@ -49,16 +51,18 @@ pub fn solve_json(
     regime: Regime,
     expected_loss: Option<f64>,
     multipliers: &[String],
+    provenance: Option<&Provenance>,
 ) -> String {
     let mults: Vec<String> = multipliers.iter().map(|m| json_string(m)).collect();
-    append_fields(
-        &super::solve::json(s),
-        &[
-            ("regime", json_string(regime.as_str())),
-            ("expected_loss", json_number(expected_loss)),
-            ("multipliers", format!("[{}]", mults.join(", "))),
-        ],
-    )
+    let mut fields = vec![
+        ("regime", json_string(regime.as_str())),
+        ("expected_loss", json_number(expected_loss)),
+        ("multipliers", format!("[{}]", mults.join(", "))),
+    ];
+    if let Some(p) = provenance {
+        fields.push(("provenance", p.json_text()));
+    }
+    append_fields(&super::solve::json(s), &fields)
 }
 
 /// The lines the text output of `solve` gains under a regime.
@@ -167,6 +171,15 @@ pub struct TunedView {
     /// Points without a unique stable solution (counted as infinitely bad).
     pub infeasible: usize,
     pub method: String,
+    /// Per parameter: the best point borders points without a unique stable solution.
+    pub edge: Vec<bool>,
+}
+
+/// Whether a tuned value sits at an end of its search range (within 1e-6 of the range's width:
+/// golden-section search converging to an end stops a few 1e-7 of a grid cell short of it).
+fn at_bound(v: f64, lo: f64, hi: f64) -> bool {
+    let w = hi - lo;
+    (v - lo).abs() <= 1e-6 * w || (hi - v).abs() <= 1e-6 * w
 }
 
 fn ratio(l: Option<f64>, c: Option<f64>) -> Option<f64> {
@@ -189,11 +202,13 @@ pub fn optimize_text(
     title: Option<&str>,
     regimes: &[RegimeView],
     tuned: Option<&TunedView>,
+    provenance: &Provenance,
 ) -> String {
     let mut t = String::new();
     if let Some(title) = title {
         t.push_str(&format!("{title}\n"));
     }
+    t.push_str(&format!("{}\n", provenance.text_line()));
     t.push_str("optimal policy: the regimes side by side\n\n");
     let c = commitment_loss(regimes);
     t.push_str(&format!(
@@ -242,9 +257,13 @@ pub fn optimize_text(
                     .roots
                     .iter()
                     .map(|r| match r.modulus {
-                        Some(m) if r.im.abs() > 0.0 => {
-                            format!("{}{:+}i (|{}|)", fmt_num(r.re), fmt_num(r.im), fmt_num(m))
-                        }
+                        Some(m) if r.im.abs() > 0.0 => format!(
+                            "{}{}{}i (modulus {})",
+                            fmt_num(r.re),
+                            if r.im < 0.0 { "-" } else { "+" },
+                            fmt_num(r.im.abs()),
+                            fmt_num(m)
+                        ),
                         Some(_) => fmt_num(r.re),
                         None => "inf".into(),
                     })
@@ -259,10 +278,20 @@ pub fn optimize_text(
     }
     if let Some(tu) = tuned {
         t.push_str("\ntuned simple rule:\n");
-        for (name, v, lo, hi) in &tu.parameters {
+        for (k, (name, v, lo, hi)) in tu.parameters.iter().enumerate() {
             t.push_str(&format!(
-                "  {name} = {} (searched {lo} to {hi})\n",
-                fmt_num(*v)
+                "  {name} = {} (searched {lo} to {hi}){}{}\n",
+                fmt_num(*v),
+                if at_bound(*v, *lo, *hi) {
+                    "; at an end of the range, so the least loss may lie beyond it"
+                } else {
+                    ""
+                },
+                if tu.edge.get(k).copied().unwrap_or(false) {
+                    "; at the edge of the region with a unique stable solution (the loss falls towards a point where the rule no longer determines the economy)"
+                } else {
+                    ""
+                }
             ));
         }
         t.push_str(&format!(
@@ -275,7 +304,11 @@ pub fn optimize_text(
 }
 
 /// JSON of `optimize`: `{"regimes": {"rule": {...}, ...}, "tuned": {...} | null}`.
-pub fn optimize_json(regimes: &[RegimeView], tuned: Option<&TunedView>) -> String {
+pub fn optimize_json(
+    regimes: &[RegimeView],
+    tuned: Option<&TunedView>,
+    provenance: &Provenance,
+) -> String {
     let c = commitment_loss(regimes);
     let mut parts = Vec::new();
     for r in regimes {
@@ -288,7 +321,7 @@ pub fn optimize_json(regimes: &[RegimeView], tuned: Option<&TunedView>) -> Strin
                     .map(|e| json_string(&e))
                     .collect();
                 append_fields(
-                    &solve_json(d.solved, r.regime, d.expected_loss, d.multipliers),
+                    &solve_json(d.solved, r.regime, d.expected_loss, d.multipliers, None),
                     &[
                         (
                             "ratio_to_commitment",
@@ -315,13 +348,16 @@ pub fn optimize_json(regimes: &[RegimeView], tuned: Option<&TunedView>) -> Strin
             let ps: Vec<String> = tu
                 .parameters
                 .iter()
-                .map(|(n, v, lo, hi)| {
+                .enumerate()
+                .map(|(k, (n, v, lo, hi))| {
                     format!(
-                        "{}: {{\"value\": {}, \"lo\": {}, \"hi\": {}}}",
+                        "{}: {{\"value\": {}, \"lo\": {}, \"hi\": {}, \"at_bound\": {}, \"at_edge\": {}}}",
                         json_string(n),
                         json_number(Some(*v)),
                         json_number(Some(*lo)),
-                        json_number(Some(*hi))
+                        json_number(Some(*hi)),
+                        at_bound(*v, *lo, *hi),
+                        tu.edge.get(k).copied().unwrap_or(false)
                     )
                 })
                 .collect();
@@ -338,9 +374,114 @@ pub fn optimize_json(regimes: &[RegimeView], tuned: Option<&TunedView>) -> Strin
         None => "null".into(),
     };
     format!(
-        "{{\"regimes\": {{\n{}}},\n\"tuned\": {},\n\"provenance\": {{\"program\": \"saddle\", \"version\": {}, \"note\": \"conditional on the model, its calibration and its objective\"}}}}\n",
+        "{{\"regimes\": {{\n{}}},\n\"tuned\": {},\n\"provenance\": {}}}\n",
         parts.join(",\n"),
         tuned,
-        json_string(env!("CARGO_PKG_VERSION"))
+        provenance.json_text()
     )
+}
+
+/// The lines `sweep`'s text summary gains under a regime or with `--measure loss`: the regime
+/// and, with `loss`, the point of least expected loss and how many points have none.
+pub fn sweep_loss_note(
+    r: &crate::analysis::sweep::SweepResult,
+    regime: Regime,
+    loss: bool,
+) -> String {
+    let mut t = format!("\npolicy regime: {}\n", regime.as_str());
+    if !loss {
+        return t;
+    }
+    let best = r
+        .points
+        .iter()
+        .filter_map(|p| p.expected_loss.filter(|v| v.is_finite()).map(|v| (p, v)))
+        .min_by(|a, b| a.1.partial_cmp(&b.1).unwrap_or(std::cmp::Ordering::Equal));
+    let without = r
+        .points
+        .iter()
+        .filter(|p| p.expected_loss.is_none())
+        .count();
+    match best {
+        Some((p, v)) => {
+            let at: Vec<String> = r
+                .parameters
+                .iter()
+                .zip(&p.values)
+                .map(|(n, x)| format!("{n} = {}", fmt_num(*x)))
+                .collect();
+            t.push_str(&format!(
+                "least expected loss on the grid: {} at {}\n",
+                fmt_num(v),
+                at.join(", ")
+            ));
+        }
+        None => t.push_str("no grid point has an expected loss\n"),
+    }
+    t.push_str(&format!(
+        "{without} point(s) without an expected loss (no unique stable solution there)\n"
+    ));
+    t
+}
+
+/// A regime in words, for a person.
+pub fn regime_words(regime: Regime) -> &'static str {
+    match regime {
+        Regime::Rule => "rule (the model as written; each control follows its simple rule)",
+        Regime::Commitment => {
+            "commitment (timeless-perspective optimal plan; Lagrange multipliers as states)"
+        }
+        Regime::Discretion => {
+            "discretion (Markov-perfect optimal policy, re-optimised each period)"
+        }
+    }
+}
+
+/// The HTML body of the report's optimal-policy section: the regimes side by side (expected
+/// loss, ratio to commitment, each control's rule in the states, the roots' count and largest
+/// stable modulus), the regimes that failed with why, and what the numbers are conditional on.
+pub fn report_section(regimes: &[RegimeView]) -> String {
+    use super::svg::escape;
+    let c = commitment_loss(regimes);
+    let mut h = String::new();
+    h.push_str("<p>The model's objective solved three ways: its simple rule as written, the optimal plan with commitment (timeless perspective) and the optimal policy under discretion (Markov-perfect). The expected loss is the unconditional mean of the period loss.</p>\n");
+    h.push_str("<table>\n<thead><tr><th>regime</th><th class=\"num\">expected loss</th><th class=\"num\">ratio to commitment</th><th>rule of each control (deviations from the steady state)</th></tr></thead>\n<tbody>\n");
+    for r in regimes {
+        match &r.result {
+            Ok(d) => {
+                let rules: Vec<String> = d
+                    .controls
+                    .iter()
+                    .filter_map(|&cv| rule_equation(d.solved, cv))
+                    .map(|e| format!("<code>{}</code>", escape(&e)))
+                    .collect();
+                h.push_str(&format!(
+                    "<tr><td>{}</td><td class=\"num\">{}</td><td class=\"num\">{}</td><td>{}</td></tr>\n",
+                    escape(regime_words(r.regime)),
+                    d.expected_loss.map_or("none".into(), fmt_num),
+                    ratio(d.expected_loss, c).map_or("-".into(), fmt_num),
+                    if rules.is_empty() {
+                        format!("no unique stable solution ({})", escape(d.solved.status.as_str()))
+                    } else {
+                        rules.join("<br>")
+                    }
+                ));
+            }
+            Err(e) => h.push_str(&format!(
+                "<tr><td>{}</td><td class=\"num\">failed</td><td class=\"num\">-</td><td>{}</td></tr>\n",
+                escape(regime_words(r.regime)),
+                escape(e)
+            )),
+        }
+    }
+    h.push_str("</tbody>\n</table>\n");
+    for r in regimes {
+        if let Ok(d) = &r.result {
+            for w in &d.solved.warnings {
+                h.push_str(&format!("<p class=\"note\">{}</p>\n", escape(w)));
+            }
+        }
+    }
+    h.push_str("<p class=\"note\">Conditional on the model, its calibration and its objective. <code>saddle optimize</code> gives the same comparison with the roots, and <code>--tune</code> searches the simple rule's coefficients.</p>\n");
+    h
 }

@@ -23,8 +23,9 @@ pub struct Provenance {
     pub overrides: Vec<(String, f64)>,
     /// Every parameter's value as used (file order).
     pub parameters: Vec<(String, f64)>,
-    /// The stable-root threshold used.
-    pub threshold: f64,
+    /// The stable-root threshold used (`None` before a solve, or for `optimize`, whose regimes
+    /// use their own).
+    pub threshold: Option<f64>,
     /// `rule`, `commitment` or `discretion`.
     pub regime: String,
     /// The data file and its SHA-256, for the data commands.
@@ -45,7 +46,7 @@ impl Provenance {
         source: &[u8],
         model: &Model,
         overrides: &[(String, f64)],
-        threshold: f64,
+        threshold: Option<f64>,
         regime: &str,
     ) -> Provenance {
         Provenance {
@@ -88,7 +89,10 @@ impl Provenance {
         o.insert("version".into(), self.version.into());
         o.insert("overrides".into(), map(&self.overrides));
         o.insert("parameters".into(), map(&self.parameters));
-        o.insert("threshold".into(), num(self.threshold));
+        o.insert(
+            "threshold".into(),
+            self.threshold.map_or(serde_json::Value::Null, num),
+        );
         o.insert("regime".into(), self.regime.clone().into());
         if let Some((file, sha)) = &self.data {
             o.insert("data".into(), file.clone().into());
@@ -115,11 +119,13 @@ impl Provenance {
                 .collect();
             s.push_str(&format!("; overrides {}", o.join(", ")));
         }
-        s.push_str(&format!(
-            "; threshold {}; regime {}",
-            crate::solution::threshold::show(self.threshold),
-            self.regime
-        ));
+        if let Some(t) = self.threshold {
+            s.push_str(&format!(
+                "; threshold {}",
+                crate::solution::threshold::show(t)
+            ));
+        }
+        s.push_str(&format!("; regime {}", self.regime));
         if let Some((file, sha)) = &self.data {
             s.push_str(&format!(
                 "; data {file} (sha256 {})",
@@ -128,6 +134,11 @@ impl Provenance {
         }
         s.push('.');
         s
+    }
+
+    /// [`Self::json`] as compact text.
+    pub fn json_text(&self) -> String {
+        self.json().to_string()
     }
 
     /// `json` (a JSON object as text) with `"provenance"` added at the end (replacing one already

@@ -71,6 +71,9 @@ pub struct ReportInput<'a> {
     pub moments_error: Option<String>,
     /// The program's version, for the footer.
     pub version: &'a str,
+    /// The optimal-policy section's body (rendered by [`super::policy::report_section`]),
+    /// shown last when the model has an objective.
+    pub policy_html: Option<String>,
 }
 
 /// Coefficients smaller than this fraction of the largest in their matrix are left out of the
@@ -124,6 +127,9 @@ calibrations can give different answers; check the calibration table before quot
     for (id, name) in SECTIONS {
         h.push_str(&format!("<li><a href=\"#{id}\">{name}</a></li>\n"));
     }
+    if input.policy_html.is_some() {
+        h.push_str("<li><a href=\"#policy\">Optimal policy</a></li>\n");
+    }
     h.push_str("</ol></nav>\n</header>\n<main>\n");
 
     section_summary(&mut h, input);
@@ -133,6 +139,12 @@ calibrations can give different answers; check the calibration table before quot
     section_solution(&mut h, input);
     section_irf(&mut h, input);
     section_moments(&mut h, input);
+    if let Some(p) = &input.policy_html {
+        h.push_str(&format!(
+            "<section id=\"policy\">\n<h2><span class=\"num\">{}</span> Optimal policy</h2>\n{p}</section>\n",
+            SECTIONS.len() + 1
+        ));
+    }
 
     h.push_str("</main>\n<footer>\n");
     h.push_str(&format!(

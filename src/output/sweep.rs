@@ -10,6 +10,12 @@ use crate::analysis::sweep::{SweepPoint, SweepResult};
 
 /// The CSV table; empty cells where a value does not apply.
 pub fn to_csv(r: &SweepResult) -> String {
+    to_csv_with(r, false)
+}
+
+/// The CSV table, with an `expected_loss` column (before `message`) when `loss`; empty cells
+/// where a value does not apply.
+pub fn to_csv_with(r: &SweepResult, loss: bool) -> String {
     let mut out = String::with_capacity(r.points.len() * 64 + 128);
     let mut header: Vec<&str> = r.parameters.iter().map(|s| s.as_str()).collect();
     header.extend([
@@ -17,8 +23,11 @@ pub fn to_csv(r: &SweepResult) -> String {
         "unstable",
         "forward_looking",
         "largest_stable_modulus",
-        "message",
     ]);
+    if loss {
+        header.push("expected_loss");
+    }
+    header.push("message");
     csv::record(&mut out, &header);
     for p in &r.points {
         let mut cells: Vec<String> = p.values.iter().map(|v| csv::number(*v)).collect();
@@ -26,6 +35,9 @@ pub fn to_csv(r: &SweepResult) -> String {
         cells.push(p.unstable.map_or(String::new(), |n| n.to_string()));
         cells.push(p.forward_looking.map_or(String::new(), |n| n.to_string()));
         cells.push(p.largest_stable_modulus.map_or(String::new(), csv::number));
+        if loss {
+            cells.push(p.expected_loss.map_or(String::new(), csv::number));
+        }
         cells.push(p.message.clone().unwrap_or_default());
         let refs: Vec<&str> = cells.iter().map(|s| s.as_str()).collect();
         csv::record(&mut out, &refs);
@@ -33,7 +45,7 @@ pub fn to_csv(r: &SweepResult) -> String {
     out
 }
 
-fn row_json(parameters: &[String], p: &SweepPoint) -> Json {
+fn row_json(parameters: &[String], p: &SweepPoint, loss: bool) -> Json {
     let mut fields: Vec<(String, Json)> = parameters
         .iter()
         .zip(&p.values)
@@ -47,6 +59,9 @@ fn row_json(parameters: &[String], p: &SweepPoint) -> Json {
         "largest_stable_modulus".into(),
         Json::opt_number(p.largest_stable_modulus),
     ));
+    if loss {
+        fields.push(("expected_loss".into(), Json::opt_number(p.expected_loss)));
+    }
     fields.push((
         "message".into(),
         p.message.clone().map_or(Json::Null, Json::String),
@@ -56,10 +71,15 @@ fn row_json(parameters: &[String], p: &SweepPoint) -> Json {
 
 /// The rows as a JSON list of objects.
 pub fn to_json(r: &SweepResult) -> Json {
+    to_json_with(r, false)
+}
+
+/// The rows as a JSON list of objects, with `expected_loss` when `loss`.
+pub fn to_json_with(r: &SweepResult, loss: bool) -> Json {
     Json::Array(
         r.points
             .iter()
-            .map(|p| row_json(&r.parameters, p))
+            .map(|p| row_json(&r.parameters, p, loss))
             .collect(),
     )
 }

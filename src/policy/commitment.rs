@@ -199,3 +199,165 @@ pub fn augmented_model(model: &Model, prob: &PolicyProblem) -> (Model, Vec<Strin
     };
     (aug, mult_names)
 }
+
+/// Multipliers that the plan holds at zero in every period (the multiplier of the demand equation
+/// when the rate is not in the loss: its first-order condition is `mu_demand = 0`) are states of
+/// the canonical form only formally: a nonzero history of them is not consistent with the
+/// first-order conditions, so no rule satisfies the equations in those directions and the
+/// plug-back residual over all states is of order one. This removes every state `m[t-l]` of a
+/// multiplier m whose rows of P and Q vanish (below `ZERO_MULTIPLIER_TOL` times the largest
+/// entry of P and Q) and re-checks the remaining solution in the linearized Lagrangian system
+/// `linear` (variables of `aug`), replacing the solver's residual warning by the new figure.
+/// Overwrites `solved.solution` and `solved.warnings`; returns the names of the dropped states.
+pub fn drop_zero_multipliers(
+    solved: &mut crate::solution::SolvedModel,
+    aug: &Model,
+    n_original: usize,
+    linear: &crate::linear::LinearSystem,
+) -> Vec<String> {
+    let Some(sp) = solved.solution.as_ref() else {
+        return vec![];
+    };
+    let scale =
+        sp.p.iter()
+            .chain(sp.q.iter())
+            .fold(0.0f64, |a, v| a.max(v.abs()));
+    let zero: Vec<usize> = (n_original..aug.endogenous.len())
+        .filter(|&j| {
+            j < sp.p.nrows()
+                && sp
+                    .p
+                    .row(j)
+                    .iter()
+                    .chain(sp.q.row(j).iter())
+                    .all(|v| v.abs() <= ZERO_MULTIPLIER_TOL * scale)
+        })
+        .collect();
+    let names: Vec<String> = zero
+        .iter()
+        .map(|&j| aug.endogenous[j].name.clone())
+        .collect();
+    let is_dropped = |state: &str| {
+        names.iter().any(|n| {
+            state
+                .strip_prefix(n.as_str())
+                .is_some_and(|r| r.starts_with("[t-"))
+        })
+    };
+    let keep: Vec<usize> = (0..sp.states.len())
+        .filter(|&k| !is_dropped(&sp.states[k]))
+        .collect();
+    if keep.len() == sp.states.len() {
+        return vec![];
+    }
+    let dropped: Vec<String> = (0..sp.states.len())
+        .filter(|k| !keep.contains(k))
+        .map(|k| sp.states[k].clone())
+        .collect();
+    let reduced = crate::solution::StateSpace {
+        states: keep.iter().map(|&k| sp.states[k].clone()).collect(),
+        p: nalgebra::DMatrix::from_fn(sp.p.nrows(), keep.len(), |r, c| sp.p[(r, keep[c])]),
+        q: sp.q.clone(),
+        g: nalgebra::DMatrix::from_fn(keep.len(), keep.len(), |r, c| sp.g[(keep[r], keep[c])]),
+        h: nalgebra::DMatrix::from_fn(keep.len(), sp.h.ncols(), |r, c| sp.h[(keep[r], c)]),
+    };
+    let resid = plug_back_by_name(linear, aug, &reduced, &zero);
+    solved
+        .warnings
+        .retain(|w| !w.starts_with("the solution leaves a relative residual"));
+    if !(resid <= crate::solution::solve::PLUG_BACK_TOL) {
+        solved.warnings.push(format!(
+            "the solution leaves a relative residual of {resid:.1e} in the linearized first-order conditions (above {:e}); the results may be inaccurate",
+            crate::solution::solve::PLUG_BACK_TOL
+        ));
+    }
+    solved.solution = Some(reduced);
+    dropped
+}
+
+/// A multiplier counts as held at zero when its rows of P and Q are below this times the largest
+/// entry of P and Q: exact zeros come out of the QZ as rounding of order 1e-16 relative.
+pub const ZERO_MULTIPLIER_TOL: f64 = 1e-12;
+
+/// The largest residual of `space` in `linear` relative to the size of the terms of its equation
+/// (as [`crate::solution::check`], with states found by name: `x[t-l]` and `e[t-l]`); variables in
+/// `zero` are identically zero. NaN when a lagged term has no state.
+fn plug_back_by_name(
+    linear: &crate::linear::LinearSystem,
+    model: &Model,
+    space: &crate::solution::StateSpace,
+    zero: &[usize],
+) -> f64 {
+    use crate::linear::dated;
+    use nalgebra::DMatrix;
+    let nk = space.g.nrows();
+    let ne = space.q.ncols();
+    let width = nk + ne;
+    let state = |name: String| space.states.iter().position(|s| *s == name);
+    let mut resid = DMatrix::<f64>::zeros(linear.n_equations, width);
+    let mut scale = vec![0.0f64; linear.n_equations];
+    let mut gh = DMatrix::<f64>::zeros(nk, width);
+    gh.view_mut((0, 0), (nk, nk)).copy_from(&space.g);
+    gh.view_mut((0, nk), (nk, ne)).copy_from(&space.h);
+    for t in &linear.variable_terms {
+        let j = t.variable;
+        let mut row = vec![0.0; width];
+        if zero.contains(&j) {
+            // identically zero
+        } else if t.offset >= 0 {
+            let mut m = DMatrix::<f64>::zeros(0, 0);
+            let base: DMatrix<f64> = if t.offset == 0 {
+                let mut r = DMatrix::<f64>::zeros(1, width);
+                for c in 0..nk {
+                    r[(0, c)] = space.p[(j, c)];
+                }
+                for c in 0..ne {
+                    r[(0, nk + c)] = space.q[(j, c)];
+                }
+                r
+            } else {
+                for k in 0..t.offset {
+                    m = if k == 0 { gh.clone() } else { &space.g * &m };
+                }
+                let r = space.p.row(j) * &m;
+                DMatrix::from_fn(1, width, |_, c| r[(0, c)])
+            };
+            for c in 0..width {
+                row[c] = base[(0, c)];
+            }
+        } else {
+            match state(dated(&model.endogenous[j].name, t.offset)) {
+                Some(s) => row[s] = 1.0,
+                None => return f64::NAN,
+            }
+        }
+        for c in 0..width {
+            let term = t.value * row[c];
+            resid[(t.equation, c)] += term;
+            scale[t.equation] = scale[t.equation].max(term.abs());
+        }
+    }
+    for t in &linear.innovation_terms {
+        let c = if t.lag == 0 {
+            Some(nk + t.shock)
+        } else {
+            state(dated(&model.exogenous[t.shock].name, -(t.lag as i32)))
+        };
+        let Some(c) = c else { return f64::NAN };
+        resid[(t.equation, c)] += t.value;
+        scale[t.equation] = scale[t.equation].max(t.value.abs());
+    }
+    let mut rel = 0.0f64;
+    for i in 0..linear.n_equations {
+        for c in 0..width {
+            let r = resid[(i, c)].abs();
+            if r.is_nan() {
+                return f64::NAN;
+            }
+            if r > 0.0 {
+                rel = rel.max(r / scale[i].max(f64::MIN_POSITIVE));
+            }
+        }
+    }
+    rel
+}

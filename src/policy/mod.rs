@@ -103,6 +103,8 @@ pub enum PolicyError {
     ControlSteady { control: String },
     #[error("the model has no forward-looking variable and no control, so there is no policy problem to solve")]
     NothingToOptimise,
+    #[error("the control {control} appears in no equation other than its own rule, so once the rule is set aside nothing ties it to the economy and no policy can be chosen; it must enter at least one of the model's other equations")]
+    ControlUndetermined { control: String },
     #[error("{0}")]
     Solve(#[from] SolveError),
     #[error("discretion: {0}")]
@@ -198,6 +200,17 @@ pub fn problem(model: &Model) -> Result<PolicyProblem, PolicyError> {
         .filter(|i| !replaced.contains(i) && !appended.contains(i))
         .collect();
     let controls: Vec<usize> = obj.controls.iter().map(|c| c.variable).collect();
+    for &c in &controls {
+        let enters = linear
+            .variable_terms
+            .iter()
+            .any(|t| t.variable == c && t.value != 0.0 && constraints.contains(&t.equation));
+        if !enters {
+            return Err(PolicyError::ControlUndetermined {
+                control: model.endogenous[c].name.clone(),
+            });
+        }
+    }
     let loss = quadratic_loss(model, &obj.loss, &params, &steady.values)?;
     let forward = linear.variable_terms.iter().any(|t| t.offset > 0);
     if !forward && controls.is_empty() {
@@ -262,6 +275,33 @@ pub fn solve_regime(
             opts.threshold = crate::solution::ThresholdSetting::Discount(prob.discount);
             let prepared = PreparedModel::new(&aug)?;
             let (mut solved, _) = prepared.solve(&aug, &opts)?;
+            if solved.solution.is_some() {
+                let mut ybar = prob.steady_state.clone();
+                ybar.resize(aug.endogenous.len(), 0.0);
+                let linear = linearize(&aug, prepared.compiled(), &prob.params, &ybar)
+                    .map_err(SolveError::from)?;
+                let dropped = commitment::drop_zero_multipliers(
+                    &mut solved,
+                    &aug,
+                    model.endogenous.len(),
+                    &linear,
+                );
+                if !dropped.is_empty() {
+                    solved.warnings.push(format!(
+                        "commitment: the plan holds {} at zero in every period, so {} not a state",
+                        dropped
+                            .iter()
+                            .map(|s| s.split('[').next().unwrap_or(s))
+                            .collect::<Vec<_>>()
+                            .join(", "),
+                        if dropped.len() == 1 {
+                            "it is"
+                        } else {
+                            "they are"
+                        }
+                    ));
+                }
+            }
             solved.warnings.extend(prob.notes.iter().cloned());
             let expected_loss = expected_loss(&solved, &prob.loss);
             Ok(RegimeSolution {

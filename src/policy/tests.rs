@@ -330,3 +330,72 @@ fn discretion_that_cannot_converge_says_so() {
         "{err:?}"
     );
 }
+
+/// The timeless plan honours the history the multipliers carry; the plan of period 0 starts
+/// them at zero. From the steady state both start from zero multipliers, so their responses to
+/// a shock coincide (that is the same state space started at the same point); from a history
+/// with a nonzero multiplier of the price-setting equation the timeless plan follows Gali (2015,
+/// ch. 5): x_t - x_{t-1} = -(kappa/alpha) pi_t, i.e. phat_t = delta phat_{t-1} without shocks,
+/// with phat_{-1} = -(alpha/kappa) x_{-1}, while the period-0 plan stays at the steady state.
+#[test]
+fn the_timeless_plan_differs_from_the_period_zero_plan_only_through_history() {
+    let m = sticky_price();
+    let r = solve_regime(
+        &m,
+        Regime::Commitment,
+        &Default::default(),
+        &PolicyParams::default(),
+    )
+    .unwrap();
+    let sp = r.solved.solution.as_ref().unwrap();
+    let ms = state(sp, "mult_supply[t-1]");
+    // The multiplier's link to the gap: FOC_x is 2 alpha x_t + F_sx mu_t = 0 (the demand
+    // equation's multiplier is zero), with F_sx the coefficient of x at t in the linearized
+    // supply equation (its sign depends on how the equation is written).
+    let prob = problem(&m).unwrap();
+    let f_sx: f64 = prob
+        .linear
+        .variable_terms
+        .iter()
+        .filter(|t| t.equation == 0 && t.variable == 1 && t.offset == 0)
+        .map(|t| t.value)
+        .sum();
+    assert!((f_sx.abs() - KAPPA).abs() < 1e-12, "{f_sx}");
+    let mu0 = 0.01;
+    let x_prev = -f_sx * mu0 / (2.0 * ALPHA);
+    let mut phat = -(ALPHA / KAPPA) * x_prev;
+    let a = ALPHA / (ALPHA * (1.0 + BETA) + KAPPA * KAPPA);
+    let delta = (1.0 - (1.0 - 4.0 * BETA * a * a).sqrt()) / (2.0 * a * BETA);
+    let ns = sp.states.len();
+    let mut s = DMatrix::<f64>::zeros(ns, 1);
+    s[(ms, 0)] = mu0;
+    let mut zero_plan = DMatrix::<f64>::zeros(ns, 1);
+    for t in 0..30 {
+        let y = &sp.p * &s;
+        let new = delta * phat;
+        let (pi_want, x_want) = (new - phat, -(KAPPA / ALPHA) * new);
+        assert!(
+            (y[(0, 0)] - pi_want).abs() <= 1e-9 * x_prev.abs(),
+            "pi at {t}: {} vs {pi_want}",
+            y[(0, 0)]
+        );
+        assert!(
+            (y[(1, 0)] - x_want).abs() <= 1e-9 * x_prev.abs(),
+            "x at {t}: {} vs {x_want}",
+            y[(1, 0)]
+        );
+        phat = new;
+        s = &sp.g * &s;
+        // The period-0 plan from the steady state: nothing moves without a shock.
+        let y0 = &sp.p * &zero_plan;
+        assert!(y0.iter().all(|v| *v == 0.0));
+        zero_plan = &sp.g * &zero_plan;
+    }
+    // The two differ at t = 0 from this history.
+    let y = &sp.p * {
+        let mut s = DMatrix::<f64>::zeros(ns, 1);
+        s[(ms, 0)] = mu0;
+        s
+    };
+    assert!(y[(1, 0)].abs() > 1e-3 * x_prev.abs());
+}

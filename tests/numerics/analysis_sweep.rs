@@ -34,6 +34,7 @@ fn fake(values: &[f64]) -> SweepPoint {
         forward_looking: Some(2),
         largest_stable_modulus: Some(x / 10.0),
         message: None,
+        expected_loss: None,
     }
 }
 

@@ -8,6 +8,7 @@ mod support;
 mod analysis_cli;
 mod analysis_output;
 mod output_contract;
+mod policy_cli;
 mod solve_cli;
 mod visual_charts;
 mod visual_cli;

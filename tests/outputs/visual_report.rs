@@ -188,6 +188,7 @@ fn input_for<'a>(
     moments: Option<MomentsView<'a>>,
 ) -> ReportInput<'a> {
     ReportInput {
+        policy_html: None,
         source: "models/harbour.saddle",
         model,
         solved,

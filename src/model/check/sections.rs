@@ -244,6 +244,30 @@ impl<'a> Checker<'a> {
         })
     }
 
+    /// An objective in a model with no forward-looking variable and no control leaves the
+    /// policymaker nothing to choose (issue 12, "Bad input"): an error at the objective's header.
+    pub(super) fn check_objective_has_a_problem(&mut self, objective: &Objective) {
+        let forward = self.max_lead.iter().any(|&l| l > 0);
+        if forward || !objective.controls.is_empty() {
+            return;
+        }
+        let span = self
+            .objective_header
+            .or_else(|| self.objective.first().map(|o| o.span()))
+            .unwrap_or_default();
+        self.error(
+            Diagnostic::error(
+                "objective-no-problem",
+                "the objective has no control and the model has no forward-looking variable, so there is no policy to choose",
+                span,
+                "this objective",
+            )
+            .with_help(
+                "name the policymaker's instrument with `control NAME replaces LABEL` (or `control NAME` for one without a simple rule)",
+            ),
+        );
+    }
+
     fn unknown_objective_word(&mut self, name: &ast::Name<'a>) {
         let mut d = Diagnostic::error(
             "unknown-objective-item",

@@ -17,12 +17,14 @@
 
 pub mod charts;
 mod layout;
+mod loss;
 mod panels;
 mod roots;
 mod status;
 pub mod text;
 pub mod ticks;
 
+pub use loss::loss_map;
 pub use panels::{panel_grid, panel_grid_with, panel_grids, GridOptions, YRange};
 pub use roots::root_plot;
 pub use status::{status_colour, status_map, status_map_with, StatusMapOptions, STATUS_ORDER};
