@@ -91,6 +91,8 @@ impl Default for PolicyParams {
 pub enum PolicyError {
     #[error("the model has no objective section, so it has no optimal policy")]
     NoObjective,
+    #[error("the optimal-policy regimes do not yet support the predetermined variable {variable} (a stock written with a lead); write it with a lag instead (language.md, \"Two timings for a stock\")")]
+    PredeterminedStock { variable: String },
     #[error("the objective declares no control, so there is nothing to optimise")]
     NoControls,
     #[error("no discount factor: give one in the objective (`discount = ...`) or in options")]
@@ -269,6 +271,13 @@ pub fn solve_regime(
             })
         }
         Regime::Commitment => {
+            // The first-order conditions are taken in the timing as written; a stock chosen a
+            // period ahead would need them in expectation one period earlier.
+            if let Some(i) = crate::model::timing::stocks(model).iter().position(|&s| s) {
+                return Err(PolicyError::PredeterminedStock {
+                    variable: model.endogenous[i].name.clone(),
+                });
+            }
             let prob = problem(model)?;
             let (aug, multipliers) = commitment::augmented_model(model, &prob);
             let mut opts = *options;

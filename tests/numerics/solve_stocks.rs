@@ -129,3 +129,22 @@ fn indeterminacy_advice_names_the_rule_the_model_has() {
     assert!(text.contains("`policy`"), "{text}");
     assert!(!text.contains("predetermined"), "{text}");
 }
+
+/// The optimal-policy regimes refuse a stock written with a lead (their first-order conditions
+/// are taken in the timing as written), with the variable named, rather than solving a
+/// different problem; the rule regime solves it.
+#[test]
+fn optimal_regimes_refuse_a_predetermined_stock() {
+    use saddle::policy::{solve_regime, PolicyError, PolicyParams, Regime};
+    let src = "endogenous\n  predetermined k\n  i\n  x\nexogenous\n  e\nequations\n  acc: k[t+1] = 0.9*k + i + e\n  rule: i = -0.5*k\n  fwd: x = 0.9*x[t+1] + k\nobjective\n  loss = k^2 + i^2\n  discount = 0.99\n  control i replaces rule\n";
+    let model = check_source(src).unwrap();
+    let opts = SolveOptions::default();
+    let params = PolicyParams::default();
+    let rule = solve_regime(&model, Regime::Rule, &opts, &params).unwrap();
+    assert_eq!(rule.solved.status, Status::Determinate);
+    match solve_regime(&model, Regime::Commitment, &opts, &params) {
+        Err(PolicyError::PredeterminedStock { variable }) => assert_eq!(variable, "k"),
+        other => panic!("{other:?}"),
+    }
+    assert!(solve_regime(&model, Regime::Discretion, &opts, &params).is_err());
+}
