@@ -30,12 +30,30 @@ pub fn stderr_colour() -> Colour {
 /// Reads `path` as model text: at most [`MAX_SOURCE_BYTES`], no NUL bytes, valid UTF-8.
 pub fn read_model_text(path: &Path) -> Result<String, Failure> {
     let shown = path.display();
-    let file = std::fs::File::open(path)
-        .map_err(|e| Failure::usage(format!("cannot read {shown}: {e}")))?;
     let mut bytes = Vec::new();
-    file.take(MAX_SOURCE_BYTES as u64 + 1)
-        .read_to_end(&mut bytes)
-        .map_err(|e| Failure::usage(format!("cannot read {shown}: {e}")))?;
+    if path.as_os_str() == "-" {
+        // The model on standard input (`saddle check -`).
+        std::io::stdin()
+            .lock()
+            .take(MAX_SOURCE_BYTES as u64 + 1)
+            .read_to_end(&mut bytes)
+            .map_err(|e| Failure::usage(format!("cannot read standard input: {e}")))?;
+    } else {
+        // Only a regular file: opening a named pipe would wait for a writer forever, and a
+        // device could stream without end.
+        let meta = std::fs::metadata(path)
+            .map_err(|e| Failure::usage(format!("cannot read {shown}: {e}")))?;
+        if !meta.is_file() {
+            return Err(Failure::usage(format!(
+                "cannot read {shown}: it is not a regular file (use `-` to read a model from standard input)"
+            )));
+        }
+        let file = std::fs::File::open(path)
+            .map_err(|e| Failure::usage(format!("cannot read {shown}: {e}")))?;
+        file.take(MAX_SOURCE_BYTES as u64 + 1)
+            .read_to_end(&mut bytes)
+            .map_err(|e| Failure::usage(format!("cannot read {shown}: {e}")))?;
+    }
     if bytes.len() > MAX_SOURCE_BYTES {
         return Err(Failure::new(
             Outcome::ModelError,

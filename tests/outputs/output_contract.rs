@@ -172,3 +172,35 @@ fn every_output_records_its_provenance() {
             .unwrap();
     assert_eq!(side["provenance"]["file"], "models/harbour.saddle");
 }
+
+/// `-` reads the model from standard input; a named pipe as the model file is refused at once
+/// instead of waiting forever for a writer.
+#[cfg(unix)]
+#[test]
+fn models_come_from_regular_files_or_standard_input() {
+    use std::io::Write;
+    use std::process::{Command, Stdio};
+    let src = std::fs::read(crate::support::model_path("harbour.saddle")).unwrap();
+    let mut child = Command::new(env!("CARGO_BIN_EXE_saddle"))
+        .args(["solve", "-", "--format", "json"])
+        .stdin(Stdio::piped())
+        .stdout(Stdio::piped())
+        .spawn()
+        .unwrap();
+    child.stdin.take().unwrap().write_all(&src).unwrap();
+    let o = child.wait_with_output().unwrap();
+    assert_eq!(o.status.code(), Some(0));
+    let v: serde_json::Value = serde_json::from_slice(&o.stdout).unwrap();
+    assert_eq!(v["status"], "determinate");
+
+    let dir = tempfile::tempdir().unwrap();
+    let fifo = dir.path().join("model.fifo");
+    let made = Command::new("mkfifo").arg(&fifo).status();
+    if made.map(|s| s.success()).unwrap_or(false) {
+        let started = std::time::Instant::now();
+        let o = saddle(&["check", fifo.to_str().unwrap()]);
+        assert!(started.elapsed() < std::time::Duration::from_secs(5));
+        assert_eq!(code(&o), 2);
+        assert!(text(&o.stderr).contains("not a regular file"));
+    }
+}
