@@ -88,6 +88,11 @@ pub fn apply_overrides(model: Model, overrides: &[(String, f64)]) -> Result<Mode
 pub fn failure(e: SolveError) -> Failure {
     match e {
         SolveError::BadThreshold { .. } => Failure::new(Outcome::ModelError, e.to_string()),
+        // A calibration that puts a parameter-only expression outside its domain is a problem
+        // of the model file, whichever command meets it.
+        SolveError::SteadyState(saddle::steady::SteadyError::ParameterDomain { .. }) => {
+            Failure::new(Outcome::ModelError, e.to_string())
+        }
         other => Failure::numerical(other.to_string()),
     }
 }

@@ -56,6 +56,13 @@ pub enum SteadyError {
     Domain(String),
     #[error("the `steady` values put an equation outside its domain: {0}. Check these values (a division by a variable given as zero, the logarithm or square root of a negative value)")]
     DomainAtGivenValues(String),
+    #[error("{equation} has {expression} = {value} at the calibration, and that expression depends on parameters only ({parameters}): check their values (no guess of a variable can change it)")]
+    ParameterDomain {
+        equation: String,
+        expression: String,
+        value: f64,
+        parameters: String,
+    },
     #[error("{variable} is declared `log`, but the steady state has {variable} = {value}, which is not positive; drop `log` from its declaration (its deviations are then in levels)")]
     LogNotPositive { variable: String, value: f64 },
     #[error("{variables} in {equation} has no steady state: no constant value satisfies that equation (the dates of {variables} cancel and a constant is left, as in x = x[t-1] + 1: a trend or a unit root). Write the model in growth rates or detrend it")]
@@ -199,12 +206,80 @@ pub fn solve_steady(
     compiled: &CompiledModel,
     params: &[f64],
 ) -> Result<SteadyState, SteadyError> {
+    parameter_domain(model, params)?;
     let (known, start) = resolve_items(model, params)?;
     let log: Vec<bool> = model.endogenous.iter().map(|v| v.log).collect();
     match newton_solve(model, compiled, params, &known, start.clone(), &log) {
         Ok(s) => Ok(s),
         Err(e) => explain_failure(model, compiled, params, &known, &start, &log, e),
     }
+}
+
+/// Finds a function or power in an equation whose argument depends on parameters only and is
+/// outside its domain at the calibration (`ln(p)` with p = -2): no starting point can fix that,
+/// so it is reported before Newton runs, naming the expression and its parameters. Returns the
+/// first such expression as an error.
+fn parameter_domain(model: &Model, params: &[f64]) -> Result<(), SteadyError> {
+    use crate::model::{BinaryOp, Expr};
+    let values = crate::model::calibrate::Values {
+        parameters: params,
+        steady: &[],
+    };
+    let names = crate::model::print::Names::of(model);
+    for (i, eq) in model.equations.iter().enumerate() {
+        let mut found: Option<(String, f64, Vec<usize>)> = None;
+        for side in [&eq.lhs, &eq.rhs] {
+            side.walk(&mut |e| {
+                if found.is_some() {
+                    return;
+                }
+                let is_call = matches!(
+                    e,
+                    Expr::Call(..)
+                        | Expr::Call2(..)
+                        | Expr::Binary(BinaryOp::Pow | BinaryOp::Div, ..)
+                );
+                if !is_call {
+                    return;
+                }
+                let mut only_parameters = true;
+                let mut used = Vec::new();
+                e.walk(&mut |x| match x {
+                    Expr::Variable { .. } | Expr::Innovation { .. } | Expr::SteadyState(_) => {
+                        only_parameters = false
+                    }
+                    Expr::Parameter(p) => used.push(*p),
+                    _ => {}
+                });
+                if only_parameters && !used.is_empty() {
+                    let v = e.eval(&values);
+                    if !v.is_finite() {
+                        used.sort_unstable();
+                        used.dedup();
+                        found = Some((crate::model::print::expr_text(e, &names), v, used));
+                    }
+                }
+            });
+        }
+        if let Some((expression, value, used)) = found {
+            let parameters = used
+                .iter()
+                .filter_map(|&p| {
+                    model.parameters.get(p).map(|q| {
+                        format!("{} = {}", q.name, params.get(p).copied().unwrap_or(q.value))
+                    })
+                })
+                .collect::<Vec<_>>()
+                .join(", ");
+            return Err(SteadyError::ParameterDomain {
+                equation: model.equation_name(i),
+                expression,
+                value,
+                parameters,
+            });
+        }
+    }
+    Ok(())
 }
 
 /// After a failed solve, looks for the real cause and returns it in place of `first` (or the

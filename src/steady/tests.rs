@@ -362,3 +362,24 @@ fn fixed_values_that_are_right_are_confirmed_by_a_full_solve() {
         s.values[0]
     );
 }
+
+#[test]
+fn a_parameter_outside_a_domain_is_blamed_not_the_guess() {
+    // x = ln(p) + 0.5 x[t-1] with p = -2: no guess of x can help, so the message names ln(p)
+    // and p's value (it used to blame the starting point of x).
+    let src = "endogenous\n  x\nexogenous\n  e\nparameters\n  p = -2\nequations\n  x = ln(p) + 0.5 * x[t-1] + e\n";
+    let m = crate::model::check_source(src).unwrap();
+    let c = CompiledModel::new(&m);
+    let params: Vec<f64> = m.parameters.iter().map(|p| p.value).collect();
+    match solve_steady(&m, &c, &params) {
+        Err(SteadyError::ParameterDomain {
+            expression,
+            parameters,
+            ..
+        }) => {
+            assert_eq!(expression, "ln(p)");
+            assert_eq!(parameters, "p = -2");
+        }
+        other => panic!("{other:?}"),
+    }
+}
