@@ -594,6 +594,39 @@ impl<'a> Lexer<'a> {
                     self.end_statement();
                 }
             }
+            // A section keyword at the start of a line always ends the statement before it, even
+            // when that statement's last line ends with an operator (`a = 0.5 *`): the parser
+            // then reports the dangling operator where it is, and the section is read as one.
+            if raw == Raw::Word
+                && line_start
+                && self.brackets.is_empty()
+                && section_of(text).is_some()
+                && (self.last == Some(Last::Continues) || (self.skipping && self.skip_continues))
+            {
+                if !self.skipping {
+                    let at = self.last_end;
+                    let start = self.source[..at]
+                        .char_indices()
+                        .next_back()
+                        .map_or(at, |(i, _)| i);
+                    let op = Span::new(start, at);
+                    self.diagnostics.push(
+                        Diagnostic::error(
+                            "dangling-operator",
+                            format!(
+                                "the statement ends with `{}`, but the next line starts the section `{text}`",
+                                &self.source[op.start..op.end]
+                            ),
+                            op,
+                            "nothing follows this operator",
+                        )
+                        .with_help("finish the expression, or remove the operator; a section keyword always starts a new statement"),
+                    );
+                    self.queue.push_back((op.start, Tok::Invalid, op.start));
+                    self.last = Some(Last::Invalid);
+                }
+                self.end_statement();
+            }
             if self.skipping {
                 match raw {
                     Raw::LParen | Raw::LBracket => self.brackets.push(span),

@@ -283,6 +283,19 @@ fn syntax_diagnostic(
         d = d.with_help(format!(
             "`{word}` is a reserved word; it cannot be used as a name"
         ));
+    } else if matches!(found, Some(Tok::Ident(_)) | Some(Tok::Number(_)))
+        && expected.iter().any(|e| e == "\"*\"")
+    {
+        // `beta pi[t+1]`: two factors side by side.
+        let before = source[..span.start].trim_end();
+        let prev = before
+            .rsplit(|c: char| c.is_whitespace())
+            .next()
+            .unwrap_or("");
+        d = d.with_help(format!(
+            "two factors side by side need `*` between them: `{prev} * {}`",
+            &source[span.start..span.end]
+        ));
     } else if matches!(found, Some(Tok::Newline)) {
         d = d.with_help(
             "a statement ends at the end of its line unless the line ends inside brackets or \

@@ -911,6 +911,19 @@ impl<'a> Checker<'a> {
                 );
                 if let Some(f) = did_you_mean(name.text, FUNCTIONS.iter().copied()) {
                     d = d.with_help(format!("did you mean `{f}`?"));
+                } else if let (true, Some(k)) =
+                    (self.names.contains_key(name.text), offset_literal(args))
+                {
+                    // `y(+1)`, `y(-1)`: a lead or lag in another common notation.
+                    let index = match k {
+                        0 => "t".to_string(),
+                        k if k > 0 => format!("t+{k}"),
+                        k => format!("t-{}", -k),
+                    };
+                    d = d.with_help(format!(
+                        "a lead or lag is written with a time index in square brackets: `{}[{index}]`",
+                        name.text
+                    ));
                 } else if self.names.contains_key(name.text) {
                     d = d.with_help(format!(
                         "`{}` is declared as a name, not a function; a product needs `*`",
@@ -1930,3 +1943,24 @@ fn capitalize(s: &str) -> String {
 
 #[cfg(test)]
 mod tests;
+
+/// The integer of a call's single argument written as `+k`, `-k` or `k` (a lead or lag in a
+/// notation other than ours), if it is one.
+fn offset_literal(args: &[ast::Expr<'_>]) -> Option<i64> {
+    let [arg] = args else { return None };
+    let (negative, inner) = match &arg.kind {
+        ast::ExprKind::Neg(e) => (true, &e.kind),
+        k => (false, k),
+    };
+    match inner {
+        ast::ExprKind::Number {
+            value,
+            integer: true,
+        } if *value <= 100.0 => Some(if negative {
+            -(*value as i64)
+        } else {
+            *value as i64
+        }),
+        _ => None,
+    }
+}
