@@ -3,6 +3,9 @@
 //! numerics or touches the file system.
 
 pub mod csv;
+pub mod data;
+pub mod data_plot;
+mod data_plot_frame;
 pub mod irf;
 pub mod moments;
 pub mod ordered_json;

@@ -1,0 +1,271 @@
+//! `saddle filter FILE --data D.csv`: the Kalman filter and smoother of the model's observables
+//! (cli.md "Data commands"), and the glue shared by the three data commands: solve, read the
+//! data, build the state-space form, word the errors with the exit codes of cli.md.
+//!
+//! Exit codes: 1 for a bad data file (every bad cell with its line and column) or a model
+//! without usable observables, 2 for a data path that cannot be read or an unmeetable `--fix`,
+//! 3 when the model has no unique stable solution (the solve diagnosis in the requested format),
+//! 4 for a numerical failure. Nothing is written on failure.
+
+use std::io::Read;
+use std::path::Path;
+
+use sha2::{Digest, Sha256};
+
+use super::args::{DataCommandArgs, Format};
+use super::config::SolveSettings;
+use super::output::{emit, eprintln_quiet, write_atomic};
+use super::solve::{load_and_solve, Solved};
+use super::{Failure, Outcome};
+use saddle::data::{read_data, DataError, DataSet, MAX_DATA_BYTES};
+use saddle::kalman::{
+    model_state_space, KalmanError, KalmanParams, ModelStateSpace, ObservationError,
+};
+use saddle::output::data::{self as render, Names, Provenance};
+use saddle::output::data_plot;
+use saddle::output::solve as render_solve;
+
+/// Fewest periods a data file must hold: a single row is no time series (and is most often a
+/// file written the wrong way round, one column per period).
+pub const MIN_PERIODS: usize = 2;
+
+/// Everything a data command needs, read and checked.
+pub struct DataRun {
+    pub solved: Solved,
+    pub ss: ModelStateSpace,
+    pub data: DataSet,
+    pub names: Names,
+    pub prov: Provenance,
+}
+
+/// Lowercase hex sha256 of `bytes`.
+pub fn sha256_hex(bytes: &[u8]) -> String {
+    let d = Sha256::digest(bytes);
+    d.iter().map(|b| format!("{b:02x}")).collect()
+}
+
+fn read_bounded(path: &Path, what: &str) -> Result<Vec<u8>, Failure> {
+    let shown = path.display();
+    let f = std::fs::File::open(path)
+        .map_err(|e| Failure::usage(format!("cannot read {what} {shown}: {e}")))?;
+    let mut bytes = Vec::new();
+    f.take(MAX_DATA_BYTES as u64 + 1)
+        .read_to_end(&mut bytes)
+        .map_err(|e| Failure::usage(format!("cannot read {what} {shown}: {e}")))?;
+    Ok(bytes)
+}
+
+/// The words of a data-file error, naming the file (exit 1).
+pub fn data_failure(path: &Path, e: DataError) -> Failure {
+    let shown = path.display();
+    let message = match &e {
+        DataError::Cells { count, problems } => {
+            let mut m = format!(
+                "data file {shown}: {count} bad cell{}; nothing was written",
+                if *count == 1 { "" } else { "s" }
+            );
+            for p in problems {
+                let col = if p.header.is_empty() {
+                    String::new()
+                } else {
+                    format!(" (column {})", p.header)
+                };
+                m.push_str(&format!(
+                    "\n  {shown}:{}:{}{col}: {}",
+                    p.line, p.column, p.what
+                ));
+            }
+            if *count > problems.len() {
+                m.push_str(&format!("\n  ... and {} more", count - problems.len()));
+            }
+            m
+        }
+        other => format!("data file {shown}: {other}; nothing was written"),
+    };
+    Failure::new(Outcome::ModelError, message)
+}
+
+/// Maps a filter, smoother or forecast failure to cli.md's exit codes, naming periods and
+/// observables.
+pub fn kalman_failure(e: KalmanError, run: &DataRun) -> Failure {
+    match e {
+        KalmanError::Contradiction {
+            period,
+            observable,
+            residual,
+        } => Failure::new(
+            Outcome::ModelError,
+            format!(
+                "data file {}: {} in period {} is an exact combination of the other observations in the model (no measurement error), but the data differ from it by {residual:e}; give it a measurement error in `covariance` or correct the data",
+                run.prov.data_file,
+                run.names
+                    .observables
+                    .get(observable)
+                    .map_or("an observable", |s| s.as_str()),
+                run.names
+                    .periods
+                    .get(period.saturating_sub(1))
+                    .map_or("?", |s| s.as_str()),
+            ),
+        ),
+        KalmanError::Condition { what } => Failure::usage(format!("--fix: {what}")),
+        KalmanError::NotCovariance { .. } | KalmanError::TooLarge { .. } => {
+            Failure::new(Outcome::ModelError, e.to_string())
+        }
+        other => Failure::numerical(other.to_string()),
+    }
+}
+
+fn observation_failure(e: ObservationError, file: &Path) -> Failure {
+    Failure::new(Outcome::ModelError, format!("{}: {e}", file.display()))
+}
+
+/// Solves, checks the observables and reads the data. `Ok(Err(outcome))` means the model has
+/// no unique stable solution and the diagnosis has been written (exit 3).
+pub fn prepare(a: &DataCommandArgs) -> Result<Result<DataRun, Outcome>, Failure> {
+    let settings = SolveSettings::from_args(&a.solve)?;
+    let solved = load_and_solve(&a.file, &settings)?;
+    let model_bytes = read_bounded(&a.file, "model file")?;
+    let prov_of = |data_sha: String| Provenance {
+        file: a.file.display().to_string(),
+        sha256: sha256_hex(&model_bytes),
+        version: env!("CARGO_PKG_VERSION").to_string(),
+        overrides: settings.overrides.clone(),
+        parameters: solved
+            .model
+            .parameters
+            .iter()
+            .map(|p| (p.name.clone(), p.value))
+            .collect(),
+        threshold: solved.solved.threshold,
+        regime: settings.regime.as_str().to_string(),
+        data_file: a.data.display().to_string(),
+        data_sha256: data_sha,
+    };
+    if solved.solved.solution.is_none() {
+        let data_sha = read_bounded(&a.data, "data file")
+            .map(|b| sha256_hex(&b))
+            .unwrap_or_default();
+        let prov = prov_of(data_sha);
+        match a.format {
+            Format::Text => {
+                let mut t = render_solve::text(&solved.solved);
+                t.push_str(&render::provenance_line(&prov));
+                t.push('\n');
+                emit(a.out.output.as_deref(), t.as_bytes())?;
+            }
+            Format::Json => {
+                let j = with_provenance(&render_solve::json(&solved.solved), &prov);
+                emit(a.out.output.as_deref(), j.as_bytes())?;
+            }
+            Format::Csv => {}
+        }
+        if a.format == Format::Csv || a.plot.is_some() {
+            eprintln_quiet(&format!(
+                "no results{}: {}",
+                if a.plot.is_some() { " and no plot" } else { "" },
+                solved
+                    .solved
+                    .diagnosis
+                    .as_deref()
+                    .unwrap_or("no unique stable solution")
+            ));
+        }
+        return Ok(Err(Outcome::NoUniqueSolution));
+    }
+    if solved.model.observables.is_empty() {
+        return Err(observation_failure(
+            ObservationError::NoObservables,
+            &a.file,
+        ));
+    }
+    let ss = model_state_space(&solved.model, &solved.solved)
+        .map_err(|e| observation_failure(e, &a.file))?;
+    let bytes = read_bounded(&a.data, "data file")?;
+    let data_sha = sha256_hex(&bytes);
+    let data =
+        read_data(&bytes, &ss.observables, MIN_PERIODS).map_err(|e| data_failure(&a.data, e))?;
+    for n in &data.notes {
+        eprintln_quiet(&format!("note: data file {}: {n}", a.data.display()));
+    }
+    let names = Names {
+        title: solved.solved.title.clone(),
+        periods: data.periods.clone(),
+        variables: ss.variables.clone(),
+        shocks: ss.shocks.clone(),
+        observables: ss.observables.clone(),
+        log: solved.solved.log.clone(),
+    };
+    let prov = prov_of(data_sha);
+    Ok(Ok(DataRun {
+        solved,
+        ss,
+        data,
+        names,
+        prov,
+    }))
+}
+
+/// The solve JSON (an object ending in `}`) with a `provenance` member appended.
+pub fn with_provenance(json: &str, prov: &Provenance) -> String {
+    let body = json.trim_end();
+    let p = render::provenance_json(prov).to_pretty_string();
+    match body.strip_suffix('}') {
+        Some(head) => format!("{},\n\"provenance\": {}}}\n", head.trim_end(), p.trim_end()),
+        None => json.to_string(),
+    }
+}
+
+/// Labels of the observables and variables for chart subtitles (the model's labels).
+pub fn labels(run: &DataRun) -> (Vec<Option<String>>, Vec<Option<String>>) {
+    let obs = run
+        .solved
+        .model
+        .observables
+        .iter()
+        .map(|o| o.label.clone())
+        .collect();
+    let vars = run
+        .ss
+        .variables
+        .iter()
+        .map(|v| {
+            run.solved
+                .model
+                .endogenous
+                .iter()
+                .find(|e| &e.name == v)
+                .and_then(|e| e.label.clone())
+        })
+        .collect();
+    (obs, vars)
+}
+
+pub fn run(a: DataCommandArgs) -> Result<Outcome, Failure> {
+    let run = match prepare(&a)? {
+        Ok(r) => r,
+        Err(outcome) => return Ok(outcome),
+    };
+    let r = saddle::data::run::run_filter(&run.ss, &run.data, &KalmanParams::default())
+        .map_err(|e| kalman_failure(e, &run))?;
+    let text = match a.format {
+        Format::Text => render::filter_text(&run.names, &r, &run.prov),
+        Format::Json => render::filter_json(&run.names, &r, &run.prov),
+        Format::Csv => render::filter_csv(&run.names, &r),
+    };
+    let svg = a.plot.as_ref().map(|_| {
+        let (obs_labels, _) = labels(&run);
+        data_plot::fit_chart(
+            &run.names,
+            &obs_labels,
+            &run.data.values,
+            &r.smoothed_observables,
+            &render::provenance_line(&run.prov),
+        )
+    });
+    emit(a.out.output.as_deref(), text.as_bytes())?;
+    if let (Some(path), Some(svg)) = (&a.plot, svg) {
+        write_atomic(path, svg.as_bytes())?;
+    }
+    Ok(Outcome::Success)
+}
