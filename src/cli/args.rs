@@ -255,6 +255,10 @@ pub struct ReportArgs {
     /// Where to write the HTML page.
     #[arg(short = 'o', long = "output", value_name = "PATH.html")]
     pub output: PathBuf,
+    /// A data file for the model's observables: adds a data section (filter, decomposition,
+    /// forecasts).
+    #[arg(long, value_name = "PATH.csv")]
+    pub data: Option<PathBuf>,
 }
 
 #[derive(Debug, Args)]

@@ -126,22 +126,8 @@ pub fn prepare(a: &DataCommandArgs) -> Result<Result<DataRun, Outcome>, Failure>
     let settings = SolveSettings::from_args(&a.solve)?;
     let solved = load_and_solve(&a.file, &settings)?;
     let model_bytes = read_bounded(&a.file, "model file")?;
-    let prov_of = |data_sha: String| Provenance {
-        file: a.file.display().to_string(),
-        sha256: sha256_hex(&model_bytes),
-        version: env!("CARGO_PKG_VERSION").to_string(),
-        overrides: settings.overrides.clone(),
-        parameters: solved
-            .model
-            .parameters
-            .iter()
-            .map(|p| (p.name.clone(), p.value))
-            .collect(),
-        threshold: solved.solved.threshold,
-        regime: settings.regime.as_str().to_string(),
-        data_file: a.data.display().to_string(),
-        data_sha256: data_sha,
-    };
+    let prov_of =
+        |data_sha: String| provenance(&a.file, &model_bytes, &settings, &solved, &a.data, data_sha);
     if solved.solved.solution.is_none() {
         let data_sha = read_bounded(&a.data, "data file")
             .map(|b| sha256_hex(&b))
@@ -173,21 +159,8 @@ pub fn prepare(a: &DataCommandArgs) -> Result<Result<DataRun, Outcome>, Failure>
         }
         return Ok(Err(Outcome::NoUniqueSolution));
     }
-    if solved.model.observables.is_empty() {
-        return Err(observation_failure(
-            ObservationError::NoObservables,
-            &a.file,
-        ));
-    }
-    let ss = model_state_space(&solved.model, &solved.solved)
-        .map_err(|e| observation_failure(e, &a.file))?;
-    let bytes = read_bounded(&a.data, "data file")?;
-    let data_sha = sha256_hex(&bytes);
-    let data =
-        read_data(&bytes, &ss.observables, MIN_PERIODS).map_err(|e| data_failure(&a.data, e))?;
-    for n in &data.notes {
-        eprintln_quiet(&format!("note: data file {}: {n}", a.data.display()));
-    }
+    let ss = state_space(&a.file, &solved)?;
+    let (data, data_sha) = load_data(&ss, &a.data)?;
     let names = Names {
         title: solved.solved.title.clone(),
         periods: data.periods.clone(),
@@ -204,6 +177,55 @@ pub fn prepare(a: &DataCommandArgs) -> Result<Result<DataRun, Outcome>, Failure>
         names,
         prov,
     }))
+}
+
+/// The provenance of a data command (cli.md): model file and hash, overrides, parameters,
+/// threshold, regime, data file and hash.
+pub fn provenance(
+    file: &Path,
+    model_bytes: &[u8],
+    settings: &SolveSettings,
+    solved: &Solved,
+    data: &Path,
+    data_sha: String,
+) -> Provenance {
+    Provenance {
+        file: file.display().to_string(),
+        sha256: sha256_hex(model_bytes),
+        version: env!("CARGO_PKG_VERSION").to_string(),
+        overrides: settings.overrides.clone(),
+        parameters: solved
+            .model
+            .parameters
+            .iter()
+            .map(|p| (p.name.clone(), p.value))
+            .collect(),
+        threshold: solved.solved.threshold,
+        regime: settings.regime.as_str().to_string(),
+        data_file: data.display().to_string(),
+        data_sha256: data_sha,
+    }
+}
+
+/// Reads and checks the data file at `path` for the observables of `ss`; returns the data set
+/// and the file's sha256, or exit 2 (cannot read) / exit 1 (bad file). Notes go to stderr.
+pub fn load_data(ss: &ModelStateSpace, path: &Path) -> Result<(DataSet, String), Failure> {
+    let bytes = read_bounded(path, "data file")?;
+    let sha = sha256_hex(&bytes);
+    let data =
+        read_data(&bytes, &ss.observables, MIN_PERIODS).map_err(|e| data_failure(path, e))?;
+    for n in &data.notes {
+        eprintln_quiet(&format!("note: data file {}: {n}", path.display()));
+    }
+    Ok((data, sha))
+}
+
+/// The state-space form of a solved model with observables, or exit 1 naming the model file.
+pub fn state_space(file: &Path, s: &Solved) -> Result<ModelStateSpace, Failure> {
+    if s.model.observables.is_empty() {
+        return Err(observation_failure(ObservationError::NoObservables, file));
+    }
+    model_state_space(&s.model, &s.solved).map_err(|e| observation_failure(e, file))
 }
 
 /// The solve JSON (an object ending in `}`) with a `provenance` member appended.
@@ -268,4 +290,100 @@ pub fn run(a: DataCommandArgs) -> Result<Outcome, Failure> {
         write_atomic(path, svg.as_bytes())?;
     }
     Ok(Outcome::Success)
+}
+
+/// The data section of `saddle report --data` for the solved model `s`: filter, decomposition
+/// and unconditional forecasts with their charts. A bad data file is exit 1 (no page written);
+/// a decomposition or forecast that cannot be computed is noted in the section.
+pub fn report_section(
+    file: &Path,
+    data_path: &Path,
+    settings: &SolveSettings,
+    s: &Solved,
+) -> Result<String, Failure> {
+    use saddle::data::run::{future_labels, run_decomposition, run_filter, run_forecast};
+    use saddle::output::data_report::{section, DataSection};
+    let ss = state_space(file, s)?;
+    let (data, data_sha) = load_data(&ss, data_path)?;
+    let model_bytes = read_bounded(file, "model file")?;
+    let prov = provenance(file, &model_bytes, settings, s, data_path, data_sha);
+    let params = KalmanParams::default();
+    let names = Names {
+        title: s.solved.title.clone(),
+        periods: data.periods.clone(),
+        variables: ss.variables.clone(),
+        shocks: ss.shocks.clone(),
+        observables: ss.observables.clone(),
+        log: s.solved.log.clone(),
+    };
+    let run = DataRun {
+        solved: Solved {
+            model: s.model.clone(),
+            solved: s.solved.clone(),
+            timings: s.timings,
+            load_time: s.load_time,
+            policy: None,
+        },
+        ss,
+        data,
+        names,
+        prov,
+    };
+    let f = run_filter(&run.ss, &run.data, &params).map_err(|e| kalman_failure(e, &run))?;
+    let (obs_labels, var_labels) = labels(&run);
+    let line = render::provenance_line(&run.prov);
+    let fit_svg = data_plot::fit_chart(
+        &run.names,
+        &obs_labels,
+        &run.data.values,
+        &f.smoothed_observables,
+        &line,
+    );
+    let mut notes = Vec::new();
+    let decomposition_svg = match run_decomposition(&run.ss, &run.data, &params) {
+        Ok(d) => Some(data_plot::decomposition_chart(
+            &run.names,
+            &var_labels,
+            &d.smoothed,
+            &d.contributions,
+            &line,
+        )),
+        Err(e) => {
+            notes.push(format!("No historical decomposition: {e}"));
+            None
+        }
+    };
+    let horizon = super::forecast::DEFAULT_HORIZON as usize;
+    let free = nalgebra::DMatrix::from_element(horizon, run.ss.observables.len(), f64::NAN);
+    let forecast_svg = match run_forecast(&run.ss, &run.data, horizon, &free, &params) {
+        Ok(r) => {
+            let last = run.data.periods.last().map_or("0", |s| s.as_str());
+            Some(data_plot::fan_chart(
+                &run.names,
+                &obs_labels,
+                &var_labels,
+                &run.data.values,
+                &future_labels(last, horizon),
+                &r,
+                &[],
+                &line,
+            ))
+        }
+        Err(e) => {
+            notes.push(format!("No forecasts: {e}"));
+            None
+        }
+    };
+    Ok(section(
+        &DataSection {
+            prov: &run.prov,
+            periods: &run.data.periods,
+            filter: &f,
+            fit_svg,
+            decomposition_svg,
+            forecast_svg,
+            notes,
+        },
+        8,
+    ))
 }

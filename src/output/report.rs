@@ -71,6 +71,8 @@ pub struct ReportInput<'a> {
     pub moments_error: Option<String>,
     /// The program's version, for the footer.
     pub version: &'a str,
+    /// The data section (`--data`), already rendered by [`super::data_report::section`].
+    pub data_section: Option<String>,
 }
 
 /// Coefficients smaller than this fraction of the largest in their matrix are left out of the
@@ -124,6 +126,9 @@ calibrations can give different answers; check the calibration table before quot
     for (id, name) in SECTIONS {
         h.push_str(&format!("<li><a href=\"#{id}\">{name}</a></li>\n"));
     }
+    if input.data_section.is_some() {
+        h.push_str("<li><a href=\"#data\">Data: filter, decomposition, forecasts</a></li>\n");
+    }
     h.push_str("</ol></nav>\n</header>\n<main>\n");
 
     section_summary(&mut h, input);
@@ -133,6 +138,9 @@ calibrations can give different answers; check the calibration table before quot
     section_solution(&mut h, input);
     section_irf(&mut h, input);
     section_moments(&mut h, input);
+    if let Some(d) = &input.data_section {
+        h.push_str(d);
+    }
 
     h.push_str("</main>\n<footer>\n");
     h.push_str(&format!(

@@ -297,3 +297,31 @@ fn plots_are_written_for_each_command() {
         assert!(s.contains("island_data.csv"));
     }
 }
+
+#[test]
+fn report_with_data_has_a_data_section_and_bad_data_writes_no_page() {
+    let (m, d) = (model(), data());
+    let dir = tempfile::tempdir().unwrap();
+    let page = dir.path().join("r.html");
+    let out = saddle(&["report", &m, "--data", &d, "-o", page.to_str().unwrap()]);
+    assert_eq!(code(&out), 0, "{}", text(&out.stderr));
+    let html = std::fs::read_to_string(&page).unwrap();
+    for id in ["data", "data-fit", "data-decomposition", "data-forecast"] {
+        assert!(html.contains(&format!("id=\"{id}\"")), "{id}");
+    }
+    assert!(html.contains("href=\"#data\""));
+    assert!(html.contains("island_data.csv (sha256 "));
+    let bad = dir.path().join("bad.csv");
+    std::fs::write(&bad, "period,growth\n1,2\n2,3\n").unwrap();
+    let page2 = dir.path().join("r2.html");
+    let out = saddle(&[
+        "report",
+        &m,
+        "--data",
+        bad.to_str().unwrap(),
+        "-o",
+        page2.to_str().unwrap(),
+    ]);
+    assert_eq!(code(&out), 1);
+    assert!(!page2.exists());
+}
