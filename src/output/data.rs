@@ -184,8 +184,10 @@ pub fn filter_text(names: &Names, r: &FilterResults, prov: &Provenance) -> Strin
     ));
     if r.n_diffuse > 0 {
         out.push_str(&format!(
-            ", {} left out because they resolve the {} unit-root direction{} of the state (exact diffuse start)",
+            ", {} left out (the observation{} that pin{} down the {} unit-root direction{} of the state: exact diffuse start)",
             r.n_diffuse,
+            if r.n_diffuse == 1 { "" } else { "s" },
+            if r.n_diffuse == 1 { "s" } else { "" },
             r.diffuse_rank,
             if r.diffuse_rank == 1 { "" } else { "s" }
         ));

@@ -23,6 +23,9 @@ const GRID: &str = "#e2e2e2";
 const AXIS: &str = "#6e6e6e";
 const FONT: &str = "Helvetica, Arial, 'Liberation Sans', 'Nimbus Sans', sans-serif";
 
+/// A band: per period (low, high), its fill colour, and the period of its first value.
+pub type Band = (Vec<(f64, f64)>, String, usize);
+
 /// One panel. Index-based series start at their `offset` on the period axis.
 pub struct Frame {
     pub title: String,
@@ -34,7 +37,7 @@ pub struct Frame {
     /// Per period (from `first_x`): stacked segments (from, to, colour).
     pub bars: Vec<Vec<(f64, f64, &'static str)>>,
     /// (per period (low, high), fill colour, offset): drawn first, in order.
-    pub bands: Vec<(Vec<(f64, f64)>, String, usize)>,
+    pub bands: Vec<Band>,
     /// (values, colour, offset); NaN splits a line.
     pub lines: Vec<(Vec<f64>, String, usize)>,
     /// (period, value) marks.

@@ -325,3 +325,44 @@ fn report_with_data_has_a_data_section_and_bad_data_writes_no_page() {
     assert_eq!(code(&out), 1);
     assert!(!page2.exists());
 }
+
+/// A random walk observed with noise (the local-level model): the filter takes the exact
+/// diffuse start, leaves the one observation that pins the level down out of the likelihood and
+/// says so; forecasts of the level have a variance growing by sd(e)^2 per period.
+#[test]
+fn a_unit_root_gets_the_diffuse_start_and_says_so() {
+    let m = crate::support::temp_model(
+        "endogenous\n level\nexogenous\n e\nequations\n level = level[t-1] + e\nobservables\n obs = 10 + level\ncovariance\n sd(e) = 0.5\n sd(obs) = 1\n",
+    );
+    let dir = tempfile::tempdir().unwrap();
+    let csv = dir.path().join("rw.csv");
+    std::fs::write(
+        &csv,
+        "period,obs\n1,10.2\n2,9.7\n3,10.9\n4,11.4\n5,\n6,12.0\n",
+    )
+    .unwrap();
+    let (mp, dp) = (m.path().to_str().unwrap(), csv.to_str().unwrap());
+    let v = json(&["filter", mp, "--data", dp, "--format", "json"]);
+    assert_eq!(v["likelihood"]["diffuse_observations_left_out"], 1);
+    assert_eq!(v["likelihood"]["observations_used"], 4);
+    let out = saddle(&["filter", mp, "--data", dp]);
+    assert!(text(&out.stdout).contains("1 left out"));
+    let f = json(&[
+        "forecast",
+        mp,
+        "--data",
+        dp,
+        "--horizon",
+        "3",
+        "--format",
+        "json",
+    ]);
+    let sd = series(&f["sd"]["level"]);
+    // Var(level_{N+h}) = Var(level_N | data) + h * 0.25 (random walk, closed form).
+    let d1 = sd[1] * sd[1] - sd[0] * sd[0];
+    let d2 = sd[2] * sd[2] - sd[1] * sd[1];
+    assert!(
+        (d1 - 0.25).abs() < 1e-12 && (d2 - 0.25).abs() < 1e-12,
+        "{d1} {d2}"
+    );
+}
