@@ -366,3 +366,42 @@ fn a_unit_root_gets_the_diffuse_start_and_says_so() {
         "{d1} {d2}"
     );
 }
+
+/// An observable that is an exact combination of another (b = 2 a, no measurement error):
+/// consistent data are filtered with b skipped (singular F), contradicting data are exit 1
+/// naming the observable and the period, with nothing written.
+#[test]
+fn an_exact_combination_is_skipped_or_named_when_contradicted() {
+    let m = crate::support::temp_model(
+        "endogenous\n x\nexogenous\n e\nparameters\n rho = 0.5\nequations\n x = rho * x[t-1] + e\nobservables\n a = x\n b = 2 * x\n",
+    );
+    let dir = tempfile::tempdir().unwrap();
+    let good = dir.path().join("good.csv");
+    std::fs::write(&good, "period,a,b\n1,1,2\n2,0.5,1\n3,0.2,0.4\n").unwrap();
+    let mp = m.path().to_str().unwrap();
+    let v = json(&[
+        "filter",
+        mp,
+        "--data",
+        good.to_str().unwrap(),
+        "--format",
+        "json",
+    ]);
+    assert_eq!(v["likelihood"]["skipped_exact_combinations"], 3);
+    assert_eq!(v["likelihood"]["observations_used"], 3);
+    let bad = dir.path().join("bad.csv");
+    std::fs::write(&bad, "period,a,b\nq1,1,2\nq2,0.5,1.3\nq3,0.2,0.4\n").unwrap();
+    let target = dir.path().join("out.txt");
+    let out = saddle(&[
+        "filter",
+        mp,
+        "--data",
+        bad.to_str().unwrap(),
+        "-o",
+        target.to_str().unwrap(),
+    ]);
+    assert_eq!(code(&out), 1, "{}", text(&out.stderr));
+    let err = text(&out.stderr);
+    assert!(err.contains("b in period q2"), "{err}");
+    assert!(!target.exists());
+}
