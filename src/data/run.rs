@@ -67,7 +67,26 @@ pub struct ForecastResults {
     pub sd: DMatrix<f64>,
 }
 
+/// Most numbers the filter and smoother may store for one run (periods x states^2, a few
+/// matrices each): 2^27 doubles is 1 GiB per matrix sequence, beyond any macroeconomic use and
+/// below the memory of an ordinary machine, so a huge model times a long sample is refused
+/// instead of exhausting memory.
+pub const MAX_STORED: usize = 1 << 27;
+
+fn check_size(ss: &ModelStateSpace, periods: usize) -> Result<(), KalmanError> {
+    let n = ss.system.n_states() + ss.observables.len();
+    if periods.saturating_mul(n.saturating_mul(n)) > MAX_STORED {
+        return Err(KalmanError::Shape {
+            what: format!(
+                "{periods} periods of a {n}-state system would store more than {MAX_STORED} numbers per covariance sequence; use fewer periods or a smaller model"
+            ),
+        });
+    }
+    Ok(())
+}
+
 fn checked(ss: &ModelStateSpace, data: &DataSet) -> Result<(), KalmanError> {
+    check_size(ss, data.values.nrows())?;
     if data.values.ncols() != ss.observables.len() {
         return Err(KalmanError::Shape {
             what: format!(
@@ -188,6 +207,7 @@ pub fn run_forecast(
     params: &KalmanParams,
 ) -> Result<ForecastResults, KalmanError> {
     checked(ss, data)?;
+    check_size(ss, data.values.nrows().saturating_add(horizon))?;
     let sys = &ss.system;
     let p = ss.observables.len();
     if fixed.nrows() != horizon || fixed.ncols() != p {
