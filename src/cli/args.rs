@@ -55,6 +55,21 @@ pub enum Command {
         after_help = "Example:\n  saddle optimize models/harbour_policy.saddle --tune phi_pi=1.01:4"
     )]
     Optimize(OptimizeArgs),
+    /// Kalman filter and smoother of the model's observables on a data file; the likelihood.
+    #[command(
+        after_help = "Example:\n  saddle filter models/island_data.saddle --data data/island_data.csv --plot fit.svg"
+    )]
+    Filter(DataCommandArgs),
+    /// Historical decomposition of the smoothed variables by innovation and initial state.
+    #[command(
+        after_help = "Example:\n  saddle decompose models/island_data.saddle --data data/island_data.csv --format csv"
+    )]
+    Decompose(DataCommandArgs),
+    /// Forecasts past the data, optionally given a future path of observables (`--fix`).
+    #[command(
+        after_help = "Example:\n  saddle forecast models/island_data.saddle --data data/island_data.csv --horizon 8 --fix rate_obs=1.5,1.5"
+    )]
+    Forecast(ForecastArgs),
 }
 
 #[derive(Debug, Clone, Copy, PartialEq, Eq, ValueEnum)]
@@ -242,6 +257,10 @@ pub struct ReportArgs {
     /// Where to write the HTML page.
     #[arg(short = 'o', long = "output", value_name = "PATH.html")]
     pub output: PathBuf,
+    /// A data file for the model's observables: adds a data section (filter, decomposition,
+    /// forecasts).
+    #[arg(long, value_name = "PATH.csv")]
+    pub data: Option<PathBuf>,
 }
 
 #[derive(Debug, Args)]
@@ -272,4 +291,37 @@ pub enum Measure {
     Status,
     /// Also the expected loss (unconditional mean of the period loss).
     Loss,
+}
+
+/// Options of the data commands `filter` and `decompose` (cli.md "Data commands").
+#[derive(Debug, Args)]
+pub struct DataCommandArgs {
+    pub file: PathBuf,
+    #[command(flatten)]
+    pub solve: SolveOptionArgs,
+    /// The data file (CSV: a header row, period labels in the first column, one column per
+    /// observable).
+    #[arg(long, value_name = "PATH.csv", required = true)]
+    pub data: PathBuf,
+    /// Also draw the result as an SVG chart.
+    #[arg(long, value_name = "PATH.svg")]
+    pub plot: Option<PathBuf>,
+    #[arg(long, value_enum, default_value_t = Format::Text)]
+    pub format: Format,
+    #[command(flatten)]
+    pub out: OutputArgs,
+}
+
+/// Options of `saddle forecast`.
+#[derive(Debug, Args)]
+pub struct ForecastArgs {
+    #[command(flatten)]
+    pub common: DataCommandArgs,
+    /// Periods past the data (default 12).
+    #[arg(long, value_name = "H")]
+    pub horizon: Option<u32>,
+    /// Condition on future values of an observable, in data units, for the first periods of
+    /// the horizon (repeatable): OBS=v1,v2,...
+    #[arg(long, value_name = "OBS=v1,v2,...")]
+    pub fix: Vec<String>,
 }

@@ -8,6 +8,9 @@ pub mod config;
 pub mod output;
 
 mod check;
+mod decompose;
+mod filter;
+mod forecast;
 mod irf;
 mod load;
 mod moments;
@@ -75,6 +78,9 @@ pub fn run(cli: Cli) -> ExitCode {
         Command::Report(a) => report::run(a),
         Command::Sweep(a) => sweep::run(a),
         Command::Optimize(a) => optimize::run(a),
+        Command::Filter(a) => filter::run(a),
+        Command::Decompose(a) => decompose::run(a),
+        Command::Forecast(a) => forecast::run(a),
     };
     let outcome = match result {
         Ok(outcome) => outcome,

@@ -25,6 +25,12 @@ pub fn run(args: ReportArgs) -> Result<Outcome, Failure> {
     let settings = SolveSettings::from_args(&args.solve)?;
     let s = load_and_solve(&args.file, &settings)?;
     let (model, solved) = (&s.model, &s.solved);
+    let data_section = match &args.data {
+        Some(path) if solved.solution.is_some() => Some(super::filter::report_section(
+            &args.file, path, &settings, &s,
+        )?),
+        _ => None,
+    };
     let horizon = args
         .horizon
         .or(model.options.horizon)
@@ -154,6 +160,7 @@ pub fn run(args: ReportArgs) -> Result<Outcome, Failure> {
         irf_error,
         moments_error,
         version: env!("CARGO_PKG_VERSION"),
+        data_section,
     });
     write_atomic(&args.output, html.as_bytes())?;
     Ok(outcome(solved))

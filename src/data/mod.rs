@@ -14,6 +14,8 @@
 use nalgebra::DMatrix;
 use thiserror::Error;
 
+pub mod run;
+
 /// Largest data file accepted (bytes): 64 MB is far beyond any macroeconomic sample.
 pub const MAX_DATA_BYTES: usize = 64 << 20;
 

@@ -244,3 +244,142 @@ pub fn model_state_space(
         max_lag,
     })
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::model::check::check_source;
+    use crate::solution::{PreparedModel, SolveOptions};
+
+    /// A first-order process x, a log level w tied to it, and three observables: a level with a
+    /// constant, a growth rate (a lag of one) and a level two periods back (a lag of two).
+    const SRC: &str = "
+endogenous
+  x
+  log w
+exogenous
+  e
+parameters
+  rho = 0.5
+  wbar = 2
+equations
+  x = rho * x[t-1] + e
+  ln(w) = ln(wbar) + 0.3 * x
+steady
+  w = wbar
+observables
+  x_obs = 3 + 10 * x
+  w_growth = 100 * (ln(w) - ln(w[t-1]))
+  w_back = w[t-2]
+covariance
+  sd(e) = 0.5
+  sd(x_obs) = 0.2
+";
+
+    fn build(src: &str) -> (Model, SolvedModel) {
+        let model = check_source(src).unwrap_or_else(|d| panic!("{d:?}"));
+        let prepared = PreparedModel::new(&model).unwrap();
+        let (solved, _) = prepared.solve(&model, &SolveOptions::default()).unwrap();
+        (model, solved)
+    }
+
+    /// Closed form by hand: with yhat = [x, log(w / wbar)], the state is
+    /// [x_t, w_t; s_t; x_{t-1}, w_{t-1}; x_{t-2}, w_{t-2}] with s_t = x_t, so
+    /// x_obs = 3 + 10 x_t, w_growth = 100 (what_t - what_{t-1}) (d ln w / d w times w = 1),
+    /// w_back = wbar + wbar what_{t-2} (d w / d w = 1 times the log scale wbar = 2).
+    #[test]
+    fn observables_give_the_closed_form_measurement_equation() {
+        let (model, solved) = build(SRC);
+        let ss = model_state_space(&model, &solved).unwrap();
+        assert_eq!(ss.max_lag, 2);
+        assert_eq!(ss.observables, vec!["x_obs", "w_growth", "w_back"]);
+        let sol = solved.solution.as_ref().unwrap();
+        assert_eq!(sol.states.len(), 1, "states {:?}", sol.states);
+        let n = ss.system.n_states();
+        assert_eq!(n, 2 + 1 + 2 * 2);
+        let tol = 1e-12;
+        let want_d = [3.0, 0.0, 2.0];
+        let mut want_z = DMatrix::zeros(3, n);
+        want_z[(0, 0)] = 10.0; // x_t
+        want_z[(1, 1)] = 100.0; // w_t
+        want_z[(1, 4)] = -100.0; // w_{t-1}
+        want_z[(2, 6)] = 2.0; // w_{t-2}
+        for j in 0..3 {
+            assert!(
+                (ss.system.d[j] - want_d[j]).abs() < tol,
+                "d {}",
+                ss.system.d
+            );
+            for i in 0..n {
+                assert!(
+                    (ss.system.z[(j, i)] - want_z[(j, i)]).abs() < tol * 100.0,
+                    "Z[{j},{i}] = {} want {}",
+                    ss.system.z[(j, i)],
+                    want_z[(j, i)]
+                );
+            }
+        }
+        // Transition: x_t = rho x_{t-1} + e, what_t = 0.3 x_t, s_t = x_t; the state s_{t-1}
+        // sits at column 2 of alpha_{t-1}. The sign of s is the solver's; P G Q H fix it.
+        let (p, g, q, h) = (&sol.p, &sol.g, &sol.q, &sol.h);
+        assert!((g[(0, 0)] - 0.5).abs() < tol);
+        assert!((p[(0, 0)] * h[(0, 0)] - 0.5).abs() < tol);
+        assert!((q[(0, 0)] - 1.0).abs() < tol && (q[(1, 0)] - 0.3).abs() < tol);
+        let t = &ss.system.t;
+        assert_eq!(t[(0, 2)], p[(0, 0)]);
+        assert_eq!(t[(1, 2)], p[(1, 0)]);
+        assert_eq!(t[(2, 2)], g[(0, 0)]);
+        // Lag copies: alpha[3..5] <- alpha[0..2], alpha[5..7] <- alpha[3..5].
+        for (to, from) in [(3, 0), (4, 1), (5, 3), (6, 4)] {
+            assert_eq!(t[(to, from)], 1.0);
+            assert_eq!(t.row(to).iter().filter(|v| **v != 0.0).count(), 1);
+        }
+        assert_eq!(ss.system.r[(0, 0)], q[(0, 0)]);
+        assert_eq!(ss.system.r[(2, 0)], h[(0, 0)]);
+        assert!(ss.system.r.rows(3, 4).iter().all(|v| *v == 0.0));
+        assert!((ss.system.q[(0, 0)] - 0.25).abs() < tol);
+        let mut want_hm = DMatrix::zeros(3, 3);
+        want_hm[(0, 0)] = 0.04;
+        assert!((&ss.system.hm - want_hm).amax() < tol);
+        assert_eq!(ss.state_names[4], "w[t-1]");
+        assert_eq!(ss.state_names[6], "w[t-2]");
+    }
+
+    /// The measurement equation applied to a simulated path reproduces the observables
+    /// computed directly from the levels to first order (exactly for the linear ones).
+    #[test]
+    fn simulated_path_through_the_bridge_matches_the_observables_in_levels() {
+        let (model, solved) = build(SRC);
+        let ss = model_state_space(&model, &solved).unwrap();
+        let sys = &ss.system;
+        let mut alpha = DVector::zeros(sys.n_states());
+        let shocks = [0.3, -0.2, 0.1, 0.0, 0.25];
+        let mut xs = vec![0.0, 0.0];
+        let mut ws = vec![2.0, 2.0];
+        for &e in &shocks {
+            alpha = &sys.t * &alpha + &sys.r * DVector::from_element(1, e);
+            let x = 0.5 * xs[xs.len() - 1] + e;
+            xs.push(x);
+            ws.push(2.0 * (0.3 * x).exp());
+            let o = &sys.d + &sys.z * &alpha;
+            let m = xs.len() - 1;
+            assert!((o[0] - (3.0 + 10.0 * x)).abs() < 1e-12);
+            // Linear in log w: exact.
+            let growth = 100.0 * (ws[m].ln() - ws[m - 1].ln());
+            assert!((o[1] - growth).abs() < 1e-10, "{} {growth}", o[1]);
+            // w_back = w_{t-2} is linearized: 2 (1 + log(w/2)) against w; equal to first order.
+            let lw = (ws[m - 2] / 2.0).ln();
+            assert!((o[2] - 2.0 * (1.0 + lw)).abs() < 1e-12);
+        }
+    }
+
+    #[test]
+    fn a_model_without_observables_is_an_error() {
+        let src = "endogenous\n x\nexogenous\n e\nparameters\n rho = 0.5\nequations\n x = rho * x[t-1] + e\n";
+        let (model, solved) = build(src);
+        assert_eq!(
+            model_state_space(&model, &solved),
+            Err(ObservationError::NoObservables)
+        );
+    }
+}

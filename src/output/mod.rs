@@ -3,6 +3,10 @@
 //! numerics or touches the file system.
 
 pub mod csv;
+pub mod data;
+pub mod data_plot;
+mod data_plot_frame;
+pub mod data_report;
 pub mod irf;
 pub mod moments;
 pub mod ordered_json;

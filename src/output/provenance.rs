@@ -95,7 +95,7 @@ impl Provenance {
         );
         o.insert("regime".into(), self.regime.clone().into());
         if let Some((file, sha)) = &self.data {
-            o.insert("data".into(), file.clone().into());
+            o.insert("data_file".into(), file.clone().into());
             o.insert("data_sha256".into(), sha.clone().into());
         }
         serde_json::Value::Object(o)

@@ -74,6 +74,8 @@ pub struct ReportInput<'a> {
     /// The optimal-policy section's body (rendered by [`super::policy::report_section`]),
     /// shown last when the model has an objective.
     pub policy_html: Option<String>,
+    /// The data section (`--data`), already rendered by [`super::data_report::section`].
+    pub data_section: Option<String>,
 }
 
 /// Coefficients smaller than this fraction of the largest in their matrix are left out of the
@@ -130,6 +132,9 @@ calibrations can give different answers; check the calibration table before quot
     if input.policy_html.is_some() {
         h.push_str("<li><a href=\"#policy\">Optimal policy</a></li>\n");
     }
+    if input.data_section.is_some() {
+        h.push_str("<li><a href=\"#data\">Data: filter, decomposition, forecasts</a></li>\n");
+    }
     h.push_str("</ol></nav>\n</header>\n<main>\n");
 
     section_summary(&mut h, input);
@@ -144,6 +149,9 @@ calibrations can give different answers; check the calibration table before quot
             "<section id=\"policy\">\n<h2><span class=\"num\">{}</span> Optimal policy</h2>\n{p}</section>\n",
             SECTIONS.len() + 1
         ));
+    }
+    if let Some(d) = &input.data_section {
+        h.push_str(d);
     }
 
     h.push_str("</main>\n<footer>\n");

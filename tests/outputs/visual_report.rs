@@ -225,6 +225,7 @@ fn input_for<'a>(
         irf_error: None,
         moments_error: None,
         version: "0.1.0",
+        data_section: None,
     }
 }
 
