@@ -148,28 +148,59 @@ pub fn to_text(m: &Moments, title: Option<&str>) -> String {
         out.push('\n');
     }
     out.push_str(
-        "Theoretical moments (deviations from the steady state; log deviations for log variables)\n\n",
+        "How much each variable moves, how long a movement lasts, and what drives it\n\
+         (unconditional, in deviations from the steady state; log deviations for log variables)\n\n",
     );
     let lags = m.autocorrelation.first().map_or(0, |a| a.len());
-    let mut header: Vec<String> = vec!["variable".into(), "std".into()];
-    for k in 1..=lags {
-        header.push(format!("ac({k})"));
-    }
-    let hdr: Vec<&str> = header.iter().map(|s| s.as_str()).collect();
-    let mut align = vec![Align::Left];
-    align.resize(hdr.len(), Align::Right);
-    let mut t = Table::new(&hdr, &align);
+    let profile_head = if lags > 0 {
+        format!("persistence, lags 1-{lags}")
+    } else {
+        "persistence".to_string()
+    };
+    let header = [
+        "variable",
+        "sd",
+        profile_head.as_str(),
+        "half-life",
+        "largest sources of its variance",
+    ];
+    let align = [
+        Align::Left,
+        Align::Right,
+        Align::Left,
+        Align::Right,
+        Align::Left,
+    ];
+    let mut t = Table::new(&header, &align);
     for (i, v) in m.variables.iter().enumerate() {
-        let mut row = vec![
+        let ac = m.autocorrelation.get(i).map_or(&[][..], |a| &a[..]);
+        let shares = m.variance_decomposition.get(i).map_or(&[][..], |r| &r[..]);
+        t.row(vec![
             v.clone(),
             m.std[i].map_or("does not exist".to_string(), |s| number(s, 4)),
-        ];
-        row.extend(m.autocorrelation[i].iter().map(|a| cell(*a, 3)));
-        t.row(row);
+            persistence_profile(ac),
+            half_life(ac.first().copied()),
+            largest_sources(&m.shocks, shares),
+        ]);
     }
     out.push_str(&t.render());
+    if lags > 0 {
+        out.push_str("\nAutocorrelations\n");
+        let mut header: Vec<String> = vec!["variable".into()];
+        header.extend((1..=lags).map(|k| format!("lag {k}")));
+        let hdr: Vec<&str> = header.iter().map(|s| s.as_str()).collect();
+        let mut align = vec![Align::Left];
+        align.resize(hdr.len(), Align::Right);
+        let mut t = Table::new(&hdr, &align);
+        for (i, v) in m.variables.iter().enumerate() {
+            let mut row = vec![v.clone()];
+            row.extend(m.autocorrelation[i].iter().map(|a| cell(*a, 3)));
+            t.row(row);
+        }
+        out.push_str(&t.render());
+    }
 
-    out.push_str("\nCorrelation\n");
+    out.push_str("\nHow the variables move together (correlations)\n");
     let mut header: Vec<&str> = vec![""];
     header.extend(m.variables.iter().map(|s| s.as_str()));
     let mut align = vec![Align::Left];
@@ -195,11 +226,11 @@ pub fn to_text(m: &Moments, title: Option<&str>) -> String {
         }
         t.render()
     };
-    out.push_str("\nVariance decomposition (percent of the unconditional variance)\n");
+    out.push_str("\nShares of each innovation in the unconditional variance (percent)\n");
     out.push_str(&shares_table(&m.variance_decomposition));
     for (h, rows) in &m.fevd {
         out.push_str(&format!(
-            "\nForecast-error variance decomposition at horizon {h} (percent)\n"
+            "\nShares of each innovation in the variance of the forecast error {h} periods ahead (percent)\n"
         ));
         out.push_str(&shares_table(rows));
     }
@@ -208,4 +239,58 @@ pub fn to_text(m: &Moments, title: Option<&str>) -> String {
     }
     out.push_str("\nResults are conditional on the model and its calibration.\n");
     out
+}
+
+/// Eight levels of a block character, for a persistence profile at a glance.
+const BLOCKS: [char; 8] = [
+    '\u{2581}', '\u{2582}', '\u{2583}', '\u{2584}', '\u{2585}', '\u{2586}', '\u{2587}', '\u{2588}',
+];
+
+/// The autocorrelations as a row of block characters (height |rho|; a negative one is marked
+/// `-` before its block; `?` where it does not exist). Returns `-` without autocorrelations.
+fn persistence_profile(ac: &[f64]) -> String {
+    if ac.is_empty() {
+        return "-".to_string();
+    }
+    let mut s = String::new();
+    for a in ac {
+        if a.is_finite() {
+            if *a < 0.0 {
+                s.push('-');
+            }
+            let level = (a.abs().min(1.0) * 7.0).round() as usize;
+            s.push(BLOCKS[level.min(7)]);
+        } else {
+            s.push('?');
+        }
+    }
+    s
+}
+
+/// Periods for a movement to halve when the first autocorrelation is rho in (0, 1):
+/// ln(0.5) / ln(rho) (exact for a first-order process, an indication otherwise). Returns `-`
+/// otherwise.
+fn half_life(rho: Option<f64>) -> String {
+    match rho {
+        Some(r) if r > 0.0 && r < 1.0 => format!("{:.1}", 0.5f64.ln() / r.ln()),
+        _ => "-".to_string(),
+    }
+}
+
+/// The innovations with the largest shares (at most three, each at least half a percent), as
+/// `e_rate 87%, e_cost 13%`.
+fn largest_sources(shocks: &[String], shares: &[f64]) -> String {
+    let mut order: Vec<usize> = (0..shares.len().min(shocks.len())).collect();
+    order.sort_by(|&a, &b| shares[b].total_cmp(&shares[a]));
+    let parts: Vec<String> = order
+        .iter()
+        .filter(|&&k| shares[k].is_finite() && shares[k] >= 0.005)
+        .take(3)
+        .map(|&k| format!("{} {:.0}%", shocks[k], 100.0 * shares[k]))
+        .collect();
+    if parts.is_empty() {
+        "-".to_string()
+    } else {
+        parts.join(", ")
+    }
 }

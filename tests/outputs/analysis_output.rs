@@ -58,7 +58,11 @@ fn moments_json_has_the_contract_fields() {
         8
     );
     let text = saddle::output::moments::to_text(&m, Some("test"));
-    assert!(text.contains("Variance decomposition") && text.contains("ac(3)"));
+    assert!(
+        text.contains("Shares of each innovation")
+            && text.contains("lag 3")
+            && text.contains("half-life")
+    );
 }
 
 #[test]
