@@ -317,3 +317,20 @@ fn scipy_reference_rank_one_q() {
     let err = (&sol.x - &want).abs().max() / want.abs().max();
     assert!(err < 1e-11, "relative difference {err:e}\n{}", sol.x);
 }
+
+/// Benner, Laub and Mehrmann (1995, "A collection of benchmark examples for the numerical
+/// solution of algebraic Riccati equations II: discrete-time case", Technical Report SPC 95_23,
+/// example 1; matrices from memory): A = [4 3; -4.5 -3.5], B = [1; -1], Q = [9 6; 6 4], R = 1,
+/// with the closed form X = (1 + sqrt 5)/2 Q. SciPy's solve_discrete_are gives the same
+/// (tests/reference/dare_scipy.py, case blm_example_1). Q is singular (rank one) and A has the
+/// roots 1 and -0.5 (trace 0.5, determinant -0.5): a unit root that the control steers.
+#[test]
+fn benner_laub_mehrmann_example_1_has_the_golden_ratio_closed_form() {
+    let a = rows(2, 2, &[4.0, 3.0, -4.5, -3.5]);
+    let b = rows(2, 1, &[1.0, -1.0]);
+    let q = rows(2, 2, &[9.0, 6.0, 6.0, 4.0]);
+    let sol = solve_dare(&a, &b, &q, &m1(1.0), None, 1.0, &DareParams::default()).unwrap();
+    let want = &q * ((1.0 + 5f64.sqrt()) / 2.0);
+    let err = (&sol.x - &want).abs().max() / want.abs().max();
+    assert!(err < 1e-12, "relative difference {err:e}\n{}", sol.x);
+}

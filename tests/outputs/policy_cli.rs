@@ -503,3 +503,35 @@ fn bad_policy_inputs_are_clear_errors_with_documented_exits() {
         &["--regime"],
     );
 }
+
+/// The Lagrangian system is symplectic in the discounted sense: its roots pair as
+/// (lambda, 1/(beta lambda)), with 0 paired with an infinite root (common practice; Vaughan
+/// 1970 for the undiscounted regulator). Checked on the commitment roots the solve JSON lists.
+#[test]
+fn commitment_roots_pair_as_lambda_and_one_over_beta_lambda() {
+    let v = json(&["solve", MODEL, "--regime", "commitment", "--format", "json"]);
+    let beta = v["provenance"]["parameters"]["beta"].as_f64().unwrap();
+    let roots = v["roots"].as_array().unwrap();
+    let finite: Vec<(f64, f64)> = roots
+        .iter()
+        .filter(|r| r["infinite"] == false)
+        .map(|r| (r["re"].as_f64().unwrap(), r["im"].as_f64().unwrap()))
+        .collect();
+    let infinite = roots.len() - finite.len();
+    let mut zeros = 0;
+    for &(re, im) in &finite {
+        let m2 = re * re + im * im;
+        if m2.sqrt() < 1e-12 {
+            zeros += 1;
+            continue;
+        }
+        // The partner 1/(beta lambda); 1e-9 relative: the roots come from one QZ, backward
+        // stable, on a well-conditioned pencil.
+        let (pr, pi) = (re / (beta * m2), -im / (beta * m2));
+        let found = finite.iter().any(|&(r2, i2)| {
+            ((r2 - pr).powi(2) + (i2 - pi).powi(2)).sqrt() <= 1e-9 * (1.0 + pr.abs())
+        });
+        assert!(found, "no partner for {re}+{im}i among {finite:?}");
+    }
+    assert_eq!(zeros, infinite, "zero roots pair with infinite ones");
+}

@@ -29,6 +29,17 @@ CASES = {
         S=[[0.0], [0.0], [0.0], [0.0]],
         beta=0.99,
     ),
+    # Benner, Laub and Mehrmann (1995, "A collection of benchmark examples for the numerical
+    # solution of algebraic Riccati equations II: discrete-time case", example 1, from memory):
+    # closed form X = (1 + sqrt 5)/2 Q; SciPy gives the same.
+    "blm_example_1": dict(
+        A=[[4.0, 3.0], [-4.5, -3.5]],
+        B=[[1.0], [-1.0]],
+        Q=[[9.0, 6.0], [6.0, 4.0]],
+        R=[[1.0]],
+        S=[[0.0], [0.0]],
+        beta=1.0,
+    ),
 }
 
 print(f"# scipy {scipy.__version__}, numpy {np.__version__}")
