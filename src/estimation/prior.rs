@@ -377,9 +377,10 @@ mod tests {
         ]
     }
 
-    /// Relative agreement asked of the log-densities: the special functions are accurate to
-    /// about 1e-14 relative (statrs' documentation), the moment conversions lose a few ulps.
-    const REL: f64 = 1e-11;
+    /// Relative agreement asked of the log-densities: 1e-9. Most rows agree to 1e-14; statrs'
+    /// erfc is less accurate far in the normal tail (measured: the row truncated to [4, 6]
+    /// differs from scipy by 1.2e-10 relative), which bounds the truncated-normal rows.
+    const REL: f64 = 1e-9;
 
     #[test]
     fn log_densities_match_scipy() {
