@@ -8,6 +8,7 @@ pub mod config;
 pub mod output;
 
 mod check;
+mod estimate;
 mod irf;
 mod load;
 mod moments;
@@ -75,6 +76,7 @@ pub fn run(cli: Cli) -> ExitCode {
         Command::Report(a) => report::run(a),
         Command::Sweep(a) => sweep::run(a),
         Command::Optimize(a) => optimize::run(a),
+        Command::Estimate(a) => estimate::run(a),
     };
     let outcome = match result {
         Ok(outcome) => outcome,

@@ -3,6 +3,7 @@
 //! numerics or touches the file system.
 
 pub mod csv;
+pub mod estimate;
 pub mod irf;
 pub mod moments;
 pub mod ordered_json;

@@ -7,6 +7,7 @@ mod support;
 
 mod analysis_cli;
 mod analysis_output;
+mod estimate_cli;
 mod solve_cli;
 mod visual_charts;
 mod visual_cli;
