@@ -292,6 +292,9 @@ pub struct EstimateArgs {
     /// Factor on the proposal's step (smaller when a chain never moves).
     #[arg(long, value_name = "X", default_value_t = 1.0)]
     pub step: f64,
+    /// Also draw the chains' traces as an SVG grid of panels.
+    #[arg(long, value_name = "PATH.svg")]
+    pub plot: Option<PathBuf>,
     /// Write the kept draws as CSV while the chains run (chain,draw,quantities...,logpost).
     #[arg(long = "draws-out", value_name = "PATH.csv")]
     pub draws_out: Option<PathBuf>,

@@ -179,6 +179,15 @@ pub fn run(args: EstimateArgs) -> Result<Outcome, Failure> {
         _ => render::text(&est, &post.quantities, &record, &prov),
     };
     emit(args.out.output.as_deref(), text.as_bytes())?;
+    if let Some(p) = &args.plot {
+        if est.chains.is_empty() {
+            eprintln_quiet(
+                "warning: --plot draws the chains' traces; with --draws 0 there are none",
+            );
+        } else {
+            super::output::write_atomic(p, render::trace_chart(&est, &prov).as_bytes())?;
+        }
+    }
     if args.format == Format::Json || args.out.output.is_some() {
         for w in &est.warnings {
             eprintln_quiet(&format!("warning: {w}"));

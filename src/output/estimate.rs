@@ -321,3 +321,62 @@ pub fn text(
     }
     out
 }
+
+/// The `--plot` document: one panel per estimated quantity with the trace of each chain's kept
+/// draws (x axis: draw number), the file and data named in a note.
+pub fn trace_chart(e: &Estimate, prov: &Provenance) -> String {
+    use super::svg::{panel_grids, GridOptions, Panel, PanelGrid, Series, YRange};
+    let panels = e
+        .names
+        .iter()
+        .enumerate()
+        .map(|(i, n)| Panel {
+            title: n.clone(),
+            subtitle: e
+                .summaries
+                .get(i)
+                .map(|s| format!("mean {}, R-hat {}", number(s.mean, 3), number(s.rhat, 3))),
+            series: e
+                .chains
+                .iter()
+                .enumerate()
+                .map(|(c, ch)| Series {
+                    name: format!("chain {}", c + 1),
+                    values: ch.x.column(i).iter().copied().collect(),
+                })
+                .collect(),
+        })
+        .collect();
+    let grid = PanelGrid {
+        title: "Traces of the Metropolis-Hastings chains (kept draws)".to_string(),
+        x_label: "draw".to_string(),
+        y_label: Some("value".to_string()),
+        panels,
+    };
+    let mut notes = vec![format!(
+        "{} (sha256 {}), data {} (sha256 {}), saddle {}",
+        prov.file,
+        &prov.sha256[..prov.sha256.len().min(12)],
+        prov.data_file,
+        &prov.data_sha256[..prov.data_sha256.len().min(12)],
+        prov.version
+    )];
+    if !prov.overrides.is_empty() {
+        let o: Vec<String> = prov
+            .overrides
+            .iter()
+            .map(|(k, v)| format!("{k}={v}"))
+            .collect();
+        notes.push(format!("overrides: {}", o.join(", ")));
+    }
+    notes.push("Results are conditional on the model, the priors and the data.".to_string());
+    panel_grids(
+        std::slice::from_ref(&grid),
+        &GridOptions {
+            y_range: YRange::Data,
+            first_period: 1,
+            notes,
+            ..GridOptions::default()
+        },
+    )
+}

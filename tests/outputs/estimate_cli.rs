@@ -90,7 +90,9 @@ fn same_seed_same_draws_and_the_draws_file_is_complete() {
 }
 
 #[test]
-fn text_says_what_results_are_conditional_on() {
+fn text_says_what_results_are_conditional_on_and_plot_draws_traces() {
+    let dir = tempfile::tempdir().unwrap();
+    let svg = dir.path().join("traces.svg");
     let o = saddle(&[
         "estimate",
         MODEL,
@@ -104,12 +106,18 @@ fn text_says_what_results_are_conditional_on() {
         "50",
         "--starts",
         "1",
+        "--plot",
+        svg.to_str().unwrap(),
     ]);
     assert_eq!(code(&o), 0, "{}", text(&o.stderr));
     let t = text(&o.stdout);
     assert!(t.contains("conditional on the model, the priors and the data"));
     assert!(t.contains("island_estimate.saddle") && t.contains("sha256"));
     assert!(t.contains("Posterior mode") && t.contains("R-hat"));
+    let doc = std::fs::read_to_string(&svg).unwrap();
+    assert!(doc.starts_with("<svg") || doc.starts_with("<?xml"));
+    assert!(doc.contains("chain 2") && doc.contains("sd(e_cost)"));
+    assert!(doc.contains("island_estimate.saddle"));
 }
 
 #[test]
