@@ -68,7 +68,7 @@ fn median(v: &[f64]) -> f64 {
     if n == 0 {
         return f64::NAN;
     }
-    if n % 2 == 1 {
+    if !n.is_multiple_of(2) {
         s[n / 2]
     } else {
         0.5 * (s[n / 2 - 1] + s[n / 2])

@@ -302,7 +302,8 @@ fn run_one(
             mean += &delta / n_seen as f64;
             let delta2 = &zv - &mean;
             m2 += &delta * delta2.transpose();
-            if n_seen > 2 * d && (it + 1) % params.adapt_every.max(1) == 0 && acc_burn > 0 {
+            if n_seen > 2 * d && (it + 1).is_multiple_of(params.adapt_every.max(1)) && acc_burn > 0
+            {
                 let cov = &m2 / (n_seen as f64 - 1.0);
                 if let Some(l) = cov.cholesky().map(|f| f.l()) {
                     l_adapt = Some(l);
@@ -322,7 +323,7 @@ fn run_one(
                     let _ = write!(rows, ",{v:e}");
                 }
                 let _ = writeln!(rows, ",{lp:e}");
-                if (k + 1) % params.flush_every.max(1) == 0 || k + 1 == params.draws {
+                if (k + 1).is_multiple_of(params.flush_every.max(1)) || k + 1 == params.draws {
                     if let Some(s) = sink {
                         if let Err(e) = s.write_rows(&rows) {
                             failed.store(true, Ordering::Relaxed);

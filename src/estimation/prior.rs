@@ -212,7 +212,10 @@ mod tests {
 
     /// Rows printed by tests/reference/priors_scipy.py (scipy 1.17.1, scipy.stats logpdf, cdf
     /// and sf; the moments forms converted there independently of the Rust code).
-    fn scipy_rows() -> Vec<(Distribution, Option<(f64, f64)>, f64, f64)> {
+    /// (distribution, truncation, x, log density).
+    type Row = (Distribution, Option<(f64, f64)>, f64, f64);
+
+    fn scipy_rows() -> Vec<Row> {
         let ok = |d: Result<Distribution, crate::stats::DistributionError>| match d {
             Ok(d) => d,
             Err(e) => panic!("test distribution invalid: {e}"),
