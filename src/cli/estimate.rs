@@ -2,8 +2,8 @@
 //! flat), then random-walk Metropolis-Hastings chains in parallel; text or JSON (cli.md).
 //! Exit status: 0 success (warnings included), 1 the model file is wrong or has no priors or
 //! observables, 2 the command line or the data file is wrong, 3 no unique stable solution at
-//! the calibration (diagnosis printed as by `solve`), 4 no starting point with positive density
-//! or a numerical failure.
+//! the calibration (diagnosis printed as by `solve`), 4 no starting point with positive density,
+//! every chain with acceptance 0 (the report is still printed), or a numerical failure.
 
 use std::io::{IsTerminal, Write};
 use std::path::Path;
@@ -192,6 +192,11 @@ pub fn run(args: EstimateArgs) -> Result<Outcome, Failure> {
         for w in &est.warnings {
             eprintln_quiet(&format!("warning: {w}"));
         }
+    }
+    // Chains that all stayed where they started give no posterior: the report is printed (it
+    // says so and suggests a smaller step) and the run counts as a numerical failure.
+    if !est.chains.is_empty() && est.chains.iter().all(|c| c.acceptance == 0.0) {
+        return Ok(Outcome::NumericalFailure);
     }
     Ok(Outcome::Success)
 }

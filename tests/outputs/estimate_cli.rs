@@ -151,6 +151,25 @@ fn bad_input_gets_the_documented_exit_status() {
         ])),
         2
     );
+    // Chains that never move (a step far too large): the report says so, exit 4.
+    let o = saddle(&[
+        "estimate",
+        MODEL,
+        "--data",
+        DATA,
+        "--starts",
+        "1",
+        "--chains",
+        "2",
+        "--draws",
+        "50",
+        "--burn-in",
+        "20",
+        "--step",
+        "1000",
+    ]);
+    assert_eq!(code(&o), 4, "{}", text(&o.stderr));
+    assert!(text(&o.stdout).contains("never moved"));
     // No unique stable solution at the calibration (exit 3, diagnosis as solve prints it).
     let o = saddle(&[
         "estimate",
