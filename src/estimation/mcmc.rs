@@ -191,7 +191,7 @@ pub fn run_chains(
         .into_par_iter()
         .map(|c| {
             run_one(
-                post, c, mode_z, sigma_z, &l0, params, sink, progress, &failed, &error,
+                post, c, mode_z, &l0, params, sink, progress, &failed, &error,
             )
         })
         .collect();
@@ -201,12 +201,14 @@ pub fn run_chains(
     Ok(chains)
 }
 
+/// Runs chain number `chain` from around `mode_z` with the initial proposal factor `l0`
+/// (lower Cholesky of Sigma_z). Returns its kept draws; stops early (fewer rows) when `failed`
+/// is set by a failed write, whose message goes to `error`.
 #[allow(clippy::too_many_arguments)]
 fn run_one(
     post: &Posterior,
     chain: usize,
     mode_z: &[f64],
-    sigma0: &DMatrix<f64>,
     l0: &DMatrix<f64>,
     params: &McmcParams,
     sink: Option<&dyn DrawSink>,
@@ -349,7 +351,6 @@ fn run_one(
             p(pending);
         }
     }
-    let _ = sigma0;
     let kept = out_lp.len();
     if kept < params.draws {
         out_x = out_x.rows(0, kept).into_owned();
