@@ -24,6 +24,7 @@
 pub mod analysis;
 pub mod canonical;
 pub mod data;
+pub mod estimation;
 pub mod kalman;
 pub mod language;
 pub mod linear;

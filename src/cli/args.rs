@@ -70,6 +70,11 @@ pub enum Command {
         after_help = "Example:\n  saddle forecast models/island_data.saddle --data data/island_data.csv --horizon 8 --fix rate_obs=1.5,1.5"
     )]
     Forecast(ForecastArgs),
+    /// Posterior mode (or maximum likelihood) and Metropolis-Hastings chains for data.
+    #[command(
+        after_help = "Example:\n  saddle estimate models/island_estimate.saddle --data models/island_estimate.csv --chains 4 --draws 5000 --draws-out draws.csv"
+    )]
+    Estimate(EstimateArgs),
 }
 
 #[derive(Debug, Clone, Copy, PartialEq, Eq, ValueEnum)]
@@ -306,6 +311,47 @@ pub struct DataCommandArgs {
     /// Also draw the result as an SVG chart.
     #[arg(long, value_name = "PATH.svg")]
     pub plot: Option<PathBuf>,
+    #[arg(long, value_enum, default_value_t = Format::Text)]
+    pub format: Format,
+    #[command(flatten)]
+    pub out: OutputArgs,
+}
+
+/// Options of `saddle estimate` (cli.md "Data commands").
+#[derive(Debug, Args)]
+pub struct EstimateArgs {
+    pub file: PathBuf,
+    #[command(flatten)]
+    pub solve: SolveOptionArgs,
+    /// The data: CSV with a period column and one column per observable.
+    #[arg(long, value_name = "PATH.csv")]
+    pub data: PathBuf,
+    /// Metropolis-Hastings chains, run in parallel.
+    #[arg(long, value_name = "N", default_value_t = 4)]
+    pub chains: usize,
+    /// Kept draws per chain (0: the mode only).
+    #[arg(long, value_name = "N", default_value_t = 2000)]
+    pub draws: usize,
+    /// Draws per chain dropped first, during which the proposal adapts.
+    #[arg(long = "burn-in", value_name = "N", default_value_t = 1000)]
+    pub burn_in: usize,
+    /// Seed of the chains' random streams (same seed and chain count, same draws, on any
+    /// number of threads).
+    #[arg(long, value_name = "S", default_value_t = 1)]
+    pub seed: u64,
+    /// Starting points of the mode search (the calibration, the prior means, then points half
+    /// a prior sd to either side).
+    #[arg(long, value_name = "N", default_value_t = 4)]
+    pub starts: usize,
+    /// Factor on the proposal's step (smaller when a chain never moves).
+    #[arg(long, value_name = "X", default_value_t = 1.0)]
+    pub step: f64,
+    /// Also draw the chains' traces as an SVG grid of panels.
+    #[arg(long, value_name = "PATH.svg")]
+    pub plot: Option<PathBuf>,
+    /// Write the kept draws as CSV while the chains run (chain,draw,quantities...,logpost).
+    #[arg(long = "draws-out", value_name = "PATH.csv")]
+    pub draws_out: Option<PathBuf>,
     #[arg(long, value_enum, default_value_t = Format::Text)]
     pub format: Format,
     #[command(flatten)]

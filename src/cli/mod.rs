@@ -9,6 +9,7 @@ pub mod output;
 
 mod check;
 mod decompose;
+mod estimate;
 mod filter;
 mod forecast;
 mod irf;
@@ -81,6 +82,7 @@ pub fn run(cli: Cli) -> ExitCode {
         Command::Filter(a) => filter::run(a),
         Command::Decompose(a) => decompose::run(a),
         Command::Forecast(a) => forecast::run(a),
+        Command::Estimate(a) => estimate::run(a),
     };
     let outcome = match result {
         Ok(outcome) => outcome,

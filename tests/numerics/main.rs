@@ -13,6 +13,7 @@ mod analysis_models;
 mod analysis_moments;
 mod analysis_simulate;
 mod analysis_sweep;
+mod estimation_reference;
 mod kalman_reference;
 mod qz_eigenvalues;
 mod qz_hard_cases;

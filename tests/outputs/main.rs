@@ -8,6 +8,7 @@ mod support;
 mod analysis_cli;
 mod analysis_output;
 mod data_cli;
+mod estimate_cli;
 mod output_contract;
 mod policy_cli;
 mod solve_cli;

@@ -1,0 +1,382 @@
+//! `saddle estimate`: text and JSON (cli.md "Data commands") from an [`Estimate`], with its
+//! provenance. JSON:
+//!
+//! ```text
+//! {"method": "posterior_mode" | "maximum_likelihood",
+//!  "mode": {NAME: X}, "mode_sd": {NAME: X}, "loglik_at_mode": X, "log_posterior_at_mode": X,
+//!  "log_marginal": {"laplace": X | null, "harmonic": X | null},
+//!  "posterior": {NAME: {"mean", "sd", "q05", "q50", "q95", "rhat", "ess"}},
+//!  "acceptance": [per chain], "sampler": {...}, "warnings": [...], "provenance": {...}}
+//! ```
+
+use super::ordered_json::Json;
+use super::table::{number, Align, Table};
+use crate::estimation::{Estimate, Quantity};
+use crate::stats::Distribution;
+
+/// Where an estimate came from (cli.md "Every output says where it came from").
+#[derive(Debug, Clone, PartialEq)]
+pub struct Provenance {
+    pub file: String,
+    pub sha256: String,
+    pub data_file: String,
+    pub data_sha256: String,
+    pub version: String,
+    /// Exactly the `--set` values.
+    pub overrides: Vec<(String, f64)>,
+    /// Every parameter's value at the calibration (the estimated ones start there).
+    pub parameters: Vec<(String, f64)>,
+    pub threshold: f64,
+    pub regime: String,
+}
+
+/// The sampler's settings, for the record.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct SamplerRecord {
+    pub chains: usize,
+    pub draws: usize,
+    pub burn_in: usize,
+    pub seed: u64,
+    pub step: f64,
+}
+
+/// A prior in words with its natural parameters, e.g. `beta(a = 3, b = 2) in [0.1, 0.9]`.
+pub fn prior_text(q: &Quantity) -> String {
+    let g = |x: f64| format!("{}", (x * 1e6).round() / 1e6);
+    let mut s = match q.prior.distribution {
+        Distribution::Normal { mean, sd } => format!("normal(mean = {}, sd = {})", g(mean), g(sd)),
+        Distribution::Beta { a, b } => format!("beta(a = {}, b = {})", g(a), g(b)),
+        Distribution::Gamma { shape, scale } => {
+            format!("gamma(shape = {}, scale = {})", g(shape), g(scale))
+        }
+        Distribution::InvGamma { shape, scale } => {
+            format!("invgamma(shape = {}, scale = {})", g(shape), g(scale))
+        }
+        Distribution::Uniform { lo, hi } => format!("uniform(lo = {}, hi = {})", g(lo), g(hi)),
+        Distribution::Flat => "flat()".to_string(),
+    };
+    if let Some((lo, hi)) = q.prior.truncation {
+        s.push_str(&format!(" in [{}, {}]", g(lo), g(hi)));
+    }
+    s
+}
+
+fn provenance_json(p: &Provenance) -> Json {
+    let pairs = |v: &[(String, f64)]| {
+        Json::Object(
+            v.iter()
+                .map(|(k, x)| (k.clone(), Json::Number(*x)))
+                .collect(),
+        )
+    };
+    Json::Object(vec![
+        ("file".into(), Json::String(p.file.clone())),
+        ("sha256".into(), Json::String(p.sha256.clone())),
+        ("data_file".into(), Json::String(p.data_file.clone())),
+        ("data_sha256".into(), Json::String(p.data_sha256.clone())),
+        ("version".into(), Json::String(p.version.clone())),
+        ("overrides".into(), pairs(&p.overrides)),
+        ("parameters".into(), pairs(&p.parameters)),
+        ("threshold".into(), Json::Number(p.threshold)),
+        ("regime".into(), Json::String(p.regime.clone())),
+        (
+            "note".into(),
+            Json::String("conditional on the model, the priors and the data".into()),
+        ),
+    ])
+}
+
+/// The JSON document of the module doc.
+pub fn json(
+    e: &Estimate,
+    quantities: &[Quantity],
+    sampler: &SamplerRecord,
+    prov: &Provenance,
+) -> String {
+    let by_name = |f: &dyn Fn(usize) -> f64| {
+        Json::Object(
+            e.names
+                .iter()
+                .enumerate()
+                .map(|(i, n)| (n.clone(), Json::Number(f(i))))
+                .collect(),
+        )
+    };
+    let posterior = Json::Object(
+        e.names
+            .iter()
+            .zip(&e.summaries)
+            .map(|(n, s)| {
+                (
+                    n.clone(),
+                    Json::Object(vec![
+                        ("mean".into(), Json::Number(s.mean)),
+                        ("sd".into(), Json::Number(s.sd)),
+                        ("q05".into(), Json::Number(s.q05)),
+                        ("q50".into(), Json::Number(s.q50)),
+                        ("q95".into(), Json::Number(s.q95)),
+                        ("rhat".into(), Json::Number(s.rhat)),
+                        ("ess".into(), Json::Number(s.ess)),
+                    ]),
+                )
+            })
+            .collect(),
+    );
+    let priors = Json::Object(
+        quantities
+            .iter()
+            .map(|q| (q.name.clone(), Json::String(prior_text(q))))
+            .collect(),
+    );
+    let doc = Json::Object(vec![
+        (
+            "method".into(),
+            Json::String(
+                if e.maximum_likelihood {
+                    "maximum_likelihood"
+                } else {
+                    "posterior_mode"
+                }
+                .into(),
+            ),
+        ),
+        ("mode".into(), by_name(&|i| e.mode.x[i])),
+        ("mode_sd".into(), by_name(&|i| e.mode.sd[i])),
+        ("loglik_at_mode".into(), Json::Number(e.mode.loglik)),
+        (
+            "log_posterior_at_mode".into(),
+            Json::Number(e.mode.log_posterior),
+        ),
+        (
+            "log_marginal".into(),
+            Json::Object(vec![
+                ("laplace".into(), Json::opt_number(e.mode.laplace)),
+                ("harmonic".into(), Json::opt_number(e.harmonic)),
+            ]),
+        ),
+        ("posterior".into(), posterior),
+        (
+            "acceptance".into(),
+            Json::numbers(&e.chains.iter().map(|c| c.acceptance).collect::<Vec<_>>()),
+        ),
+        ("priors".into(), priors),
+        (
+            "mode_search".into(),
+            Json::Object(vec![
+                ("start_values".into(), Json::numbers(&e.mode.start_values)),
+                (
+                    "evaluations".into(),
+                    Json::Integer(e.mode.evaluations as i64),
+                ),
+            ]),
+        ),
+        (
+            "sampler".into(),
+            Json::Object(vec![
+                ("chains".into(), Json::Integer(sampler.chains as i64)),
+                ("draws".into(), Json::Integer(sampler.draws as i64)),
+                ("burn_in".into(), Json::Integer(sampler.burn_in as i64)),
+                ("seed".into(), Json::String(sampler.seed.to_string())),
+                ("step".into(), Json::Number(sampler.step)),
+            ]),
+        ),
+        (
+            "warnings".into(),
+            Json::Array(e.warnings.iter().map(|w| Json::String(w.clone())).collect()),
+        ),
+        ("provenance".into(), provenance_json(prov)),
+    ]);
+    doc.to_pretty_string()
+}
+
+/// The text report: header with provenance, the mode table, the posterior table, the
+/// acceptance rates, the marginal likelihoods, warnings.
+pub fn text(
+    e: &Estimate,
+    quantities: &[Quantity],
+    sampler: &SamplerRecord,
+    prov: &Provenance,
+) -> String {
+    let mut out = String::new();
+    out.push_str(&format!(
+        "saddle estimate {}: {} (sha256 {}), data {} (sha256 {})\n",
+        prov.version,
+        prov.file,
+        &prov.sha256[..prov.sha256.len().min(12)],
+        prov.data_file,
+        &prov.data_sha256[..prov.data_sha256.len().min(12)]
+    ));
+    if !prov.overrides.is_empty() {
+        let o: Vec<String> = prov
+            .overrides
+            .iter()
+            .map(|(k, v)| format!("{k}={v}"))
+            .collect();
+        out.push_str(&format!("overrides: {}\n", o.join(", ")));
+    }
+    out.push_str(&format!(
+        "regime {}, threshold {}\n",
+        prov.regime,
+        crate::solution::threshold::show(prov.threshold)
+    ));
+    out.push_str(
+        "Results are conditional on the model, the priors and the data; they are not facts about the world.\n\n",
+    );
+    if e.maximum_likelihood {
+        out.push_str("Maximum likelihood (every prior is flat)\n");
+    } else {
+        out.push_str("Posterior mode\n");
+    }
+    let sd_head = if e.maximum_likelihood {
+        "std. error"
+    } else {
+        "mode sd"
+    };
+    let head = if e.maximum_likelihood {
+        "estimate"
+    } else {
+        "mode"
+    };
+    let mut t = Table::new(
+        &["quantity", "prior", head, sd_head],
+        &[Align::Left, Align::Left, Align::Right, Align::Right],
+    );
+    for (i, q) in quantities.iter().enumerate() {
+        t.row(vec![
+            q.name.clone(),
+            prior_text(q),
+            number(e.mode.x[i], 4),
+            number(e.mode.sd[i], 4),
+        ]);
+    }
+    out.push_str(&t.render());
+    out.push_str(&format!(
+        "found from {} starting point(s) in {} evaluations of the likelihood\n",
+        e.mode.start_values.len(),
+        e.mode.evaluations
+    ));
+    out.push_str(&format!(
+        "log likelihood at the {head}: {}\n",
+        number(e.mode.loglik, 4)
+    ));
+    if !e.maximum_likelihood {
+        out.push_str(&format!(
+            "log posterior kernel (prior + likelihood) at the mode: {}\n",
+            number(e.mode.log_posterior, 4)
+        ));
+    }
+    if !e.chains.is_empty() {
+        out.push_str(&format!(
+            "\nPosterior from {} chains x {} draws (burn-in {}, seed {})\n",
+            sampler.chains, sampler.draws, sampler.burn_in, sampler.seed
+        ));
+        let mut t = Table::new(
+            &[
+                "quantity", "mean", "sd", "q05", "q50", "q95", "R-hat", "ESS",
+            ],
+            &[
+                Align::Left,
+                Align::Right,
+                Align::Right,
+                Align::Right,
+                Align::Right,
+                Align::Right,
+                Align::Right,
+                Align::Right,
+            ],
+        );
+        for (n, s) in e.names.iter().zip(&e.summaries) {
+            t.row(vec![
+                n.clone(),
+                number(s.mean, 4),
+                number(s.sd, 4),
+                number(s.q05, 4),
+                number(s.q50, 4),
+                number(s.q95, 4),
+                number(s.rhat, 3),
+                number(s.ess, 0),
+            ]);
+        }
+        out.push_str(&t.render());
+        let acc: Vec<String> = e
+            .chains
+            .iter()
+            .map(|c| format!("{:.3}", c.acceptance))
+            .collect();
+        out.push_str(&format!("acceptance rate per chain: {}\n", acc.join(", ")));
+    }
+    if !e.maximum_likelihood {
+        let show = |x: Option<f64>| x.map_or("not available".to_string(), |v| number(v, 4));
+        out.push_str(&format!(
+            "\nlog marginal likelihood: Laplace {}, modified harmonic mean {}\n",
+            show(e.mode.laplace),
+            show(e.harmonic)
+        ));
+    }
+    if !e.warnings.is_empty() {
+        out.push_str("\nwarnings:\n");
+        for w in &e.warnings {
+            out.push_str(&format!("  - {w}\n"));
+        }
+    }
+    out
+}
+
+/// The `--plot` document: one panel per estimated quantity with the trace of each chain's kept
+/// draws (x axis: draw number), the file and data named in a note.
+pub fn trace_chart(e: &Estimate, prov: &Provenance) -> String {
+    use super::svg::{panel_grids, GridOptions, Panel, PanelGrid, Series, YRange};
+    let panels = e
+        .names
+        .iter()
+        .enumerate()
+        .map(|(i, n)| Panel {
+            title: n.clone(),
+            subtitle: e
+                .summaries
+                .get(i)
+                .map(|s| format!("mean {}, R-hat {}", number(s.mean, 3), number(s.rhat, 3))),
+            series: e
+                .chains
+                .iter()
+                .enumerate()
+                .map(|(c, ch)| Series {
+                    name: format!("chain {}", c + 1),
+                    values: ch.x.column(i).iter().copied().collect(),
+                })
+                .collect(),
+        })
+        .collect();
+    let grid = PanelGrid {
+        title: "Traces of the Metropolis-Hastings chains (kept draws)".to_string(),
+        x_label: "draw".to_string(),
+        y_label: Some("value".to_string()),
+        panels,
+    };
+    let mut notes = vec![format!(
+        "{} (sha256 {}), data {} (sha256 {}), saddle {}",
+        prov.file,
+        &prov.sha256[..prov.sha256.len().min(12)],
+        prov.data_file,
+        &prov.data_sha256[..prov.data_sha256.len().min(12)],
+        prov.version
+    )];
+    if !prov.overrides.is_empty() {
+        let o: Vec<String> = prov
+            .overrides
+            .iter()
+            .map(|(k, v)| format!("{k}={v}"))
+            .collect();
+        notes.push(format!("overrides: {}", o.join(", ")));
+    }
+    notes.push("Results are conditional on the model, the priors and the data.".to_string());
+    panel_grids(
+        std::slice::from_ref(&grid),
+        &GridOptions {
+            y_range: YRange::Data,
+            first_period: 1,
+            notes,
+            ..GridOptions::default()
+        },
+    )
+}
