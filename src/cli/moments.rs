@@ -50,13 +50,12 @@ pub(super) fn not_determinate(
     };
     match text {
         Some(t) => write_stdout(t.as_bytes())?,
-        None => eprintln_quiet(&format!(
-            "{}",
+        None => eprintln_quiet(
             s.solved
                 .diagnosis
                 .as_deref()
-                .unwrap_or("the model has no unique stable solution")
-        )),
+                .unwrap_or("the model has no unique stable solution"),
+        ),
     }
     let file = out
         .map(|p| format!("; nothing was written to {}", p.display()))
