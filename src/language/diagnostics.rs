@@ -96,6 +96,7 @@ impl fmt::Display for Diagnostic {
 
 impl std::error::Error for Diagnostic {}
 
+#[cfg(feature = "cli")]
 impl miette::Diagnostic for Diagnostic {
     fn severity(&self) -> Option<miette::Severity> {
         Some(match self.severity {
@@ -152,6 +153,7 @@ pub enum Colour {
     Always,
 }
 
+#[cfg(feature = "cli")]
 /// Draws each diagnostic as a miette report against `source` (named `file_name` in the report
 /// headers, which read `[file:line:column]`); returns the text, reports separated by a blank line.
 pub fn render(diags: &[Diagnostic], file_name: &str, source: &str, colour: Colour) -> String {
@@ -189,11 +191,13 @@ pub fn render(diags: &[Diagnostic], file_name: &str, source: &str, colour: Colou
 /// a line thousands of columns wide helps nobody anyway.
 pub const MAX_DRAWN_LINE: usize = 500;
 /// Display columns a tab may take, counted at its widest.
+#[cfg(feature = "cli")]
 const TAB_COLUMNS: usize = 8;
 /// Characters of source shown on each side of the span in the plain form.
 const PLAIN_CONTEXT: usize = 40;
 
 /// Whether every line that `d` points into is narrow enough to draw.
+#[cfg(feature = "cli")]
 fn drawable(d: &Diagnostic, source: &str) -> bool {
     std::iter::once(d.span)
         .chain(d.labels.iter().map(|l| l.span))
@@ -202,6 +206,7 @@ fn drawable(d: &Diagnostic, source: &str) -> bool {
 
 /// Display width of the lines `span` touches: the widest of them, counting every character from
 /// the start of its first line to the end of its last.
+#[cfg(feature = "cli")]
 fn line_width(source: &str, span: Span) -> usize {
     let start = span.start.min(source.len());
     let end = span.end.clamp(start, source.len());
@@ -227,9 +232,10 @@ fn line_width(source: &str, span: Span) -> usize {
     widest
 }
 
-/// The plain form of a report: a header with the position, a bounded excerpt of the line around
-/// the span (control characters shown as `?`), the label and the help. Returns the text.
-fn render_plain(d: &Diagnostic, file_name: &str, source: &str) -> String {
+/// The plain form of a report, which needs no terminal renderer (also for embedders): a header
+/// with the position, a bounded excerpt of the line around the span (control characters shown
+/// as spaces), the label and the help. Returns the text.
+pub fn render_plain(d: &Diagnostic, file_name: &str, source: &str) -> String {
     let kind = match d.severity {
         Severity::Error => "error",
         Severity::Warning => "warning",

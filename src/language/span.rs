@@ -49,6 +49,7 @@ impl Span {
     }
 }
 
+#[cfg(feature = "cli")]
 impl From<Span> for miette::SourceSpan {
     fn from(s: Span) -> miette::SourceSpan {
         miette::SourceSpan::new(s.start.into(), s.len())
