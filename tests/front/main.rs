@@ -9,4 +9,5 @@ mod check;
 mod diagnostics;
 mod hostile;
 mod models;
+mod mutations;
 mod props;
