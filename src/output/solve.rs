@@ -222,39 +222,67 @@ pub fn text(s: &SolvedModel) -> String {
     out.push_str(&format!("Status: {}\n", status_phrase(s.status)));
     out.push_str(&format!(
         "Threshold: roots with modulus below {} are stable\n\n",
-        number(s.threshold, 6)
+        super::super::solution::threshold::show(s.threshold)
     ));
 
-    out.push_str("Roots of the canonical form\n");
+    out.push_str(&format!(
+        "Roots of the canonical form, smallest first; a root is stable when its size is below {}\n",
+        super::super::solution::threshold::show(s.threshold)
+    ));
     let mut t = Table::new(
-        &["#", "modulus", "real", "imaginary", "kind"],
-        &[
-            Align::Right,
-            Align::Right,
-            Align::Right,
-            Align::Right,
-            Align::Left,
-        ],
+        &["root", "size", "against the threshold", "verdict"],
+        &[Align::Left, Align::Right, Align::Right, Align::Left],
     );
-    for (i, r) in s.roots.iter().enumerate() {
-        let kind = if r.infinite {
-            "infinite".to_string()
-        } else if r.stable {
-            if r.boundary {
-                "stable (on the boundary)".to_string()
-            } else {
+    // A complex pair (conjugates next to each other, same modulus) shares one row.
+    let mut i = 0;
+    while i < s.roots.len() {
+        let r = &s.roots[i];
+        let pair = r.im != 0.0
+            && s.roots.get(i + 1).is_some_and(|q| {
+                // Conjugates agree to rounding (relative to the root's size).
+                let scale = r.modulus.unwrap_or(1.0).max(f64::MIN_POSITIVE);
+                let near = |a: f64, b: f64| (a - b).abs() <= 1e-9 * scale;
+                q.stable == r.stable && near(q.re, r.re) && near(q.im, -r.im) && r.im != 0.0
+            });
+        let verdict = {
+            let mut v = if r.infinite {
+                "unstable (infinite)".to_string()
+            } else if r.stable {
                 "stable".to_string()
+            } else {
+                "unstable".to_string()
+            };
+            if r.boundary {
+                v.push_str(", on the boundary");
             }
-        } else if r.boundary {
-            "unstable (on the boundary)".to_string()
-        } else {
-            "unstable".to_string()
+            if pair {
+                v.push_str(", a complex pair");
+            }
+            v
         };
-        let (m, re, im) = match r.modulus {
-            None => ("inf".to_string(), String::new(), String::new()),
-            Some(m) => (number(m, 4), number(r.re, 4), number(r.im, 4)),
+        let (root, size, gap) = match r.modulus {
+            None => ("infinite".to_string(), "-".to_string(), "-".to_string()),
+            Some(m) => {
+                let root = if r.im == 0.0 {
+                    number(r.re, 4)
+                } else {
+                    let sign = if pair {
+                        "\u{b1}"
+                    } else if r.im < 0.0 {
+                        "-"
+                    } else {
+                        "+"
+                    };
+                    format!("{} {sign} {}i", number(r.re, 4), number(r.im.abs(), 4))
+                };
+                // The distance in percent of the threshold: how far a calibration change must
+                // move the root to change the verdict.
+                let gap = 100.0 * (m - s.threshold) / s.threshold;
+                (root, number(m, 4), format!("{gap:+.1}%"))
+            }
         };
-        t.row(vec![(i + 1).to_string(), m, re, im, kind]);
+        t.row(vec![root, size, gap, verdict]);
+        i += if pair { 2 } else { 1 };
     }
     if s.roots.is_empty() {
         out.push_str("  (none: the model has no dynamics once its static equations are solved)\n");
