@@ -137,18 +137,19 @@ pub fn json(s: &SolvedModel) -> String {
 
 /// The roots table as CSV: `index,re,im,modulus,infinite,stable,boundary` (infinite roots have
 /// empty `re`, `im` and `modulus`).
+/// One tidy table, `part,row,term,value`, that loads in one call:
+/// - `root` rows: `row` is the root's position (smallest first), `term` one of `re`, `im`,
+///   `modulus` (`inf` for an infinite root) and `stable` (1 or 0);
+/// - with a solution, `policy` rows (`row` a variable, `term` a state or an innovation: the
+///   coefficients of P and Q) and `transition` rows (`row` a state at t, the coefficients of G
+///   and H), every coefficient including zeros, in declaration order.
 pub fn csv(s: &SolvedModel) -> String {
     let mut out = String::new();
-    csv::record(
-        &mut out,
-        &[
-            "index", "re", "im", "modulus", "infinite", "stable", "boundary",
-        ],
-    );
+    csv::record(&mut out, &["part", "row", "term", "value"]);
     for (i, r) in s.roots.iter().enumerate() {
         let idx = (i + 1).to_string();
         let (re, im, m) = if r.infinite {
-            (String::new(), String::new(), String::new())
+            (String::new(), String::new(), "inf".to_string())
         } else {
             (
                 csv::number(r.re),
@@ -156,18 +157,32 @@ pub fn csv(s: &SolvedModel) -> String {
                 csv::number(r.modulus.unwrap_or(f64::NAN)),
             )
         };
-        csv::record(
-            &mut out,
-            &[
-                &idx,
-                &re,
-                &im,
-                &m,
-                if r.infinite { "true" } else { "false" },
-                if r.stable { "true" } else { "false" },
-                if r.boundary { "true" } else { "false" },
-            ],
-        );
+        for (term, value) in [
+            ("re", re),
+            ("im", im),
+            ("modulus", m),
+            ("stable", if r.stable { "1" } else { "0" }.to_string()),
+        ] {
+            csv::record(&mut out, &["root", &idx, term, &value]);
+        }
+    }
+    if let Some(x) = &s.solution {
+        let mut rows = |part: &str,
+                        names: &[String],
+                        a: &nalgebra::DMatrix<f64>,
+                        b: &nalgebra::DMatrix<f64>| {
+            for (i, name) in names.iter().enumerate() {
+                for (k, st) in x.states.iter().enumerate() {
+                    csv::record(&mut out, &[part, name, st, &csv::number(a[(i, k)])]);
+                }
+                for (k, e) in s.shocks.iter().enumerate() {
+                    csv::record(&mut out, &[part, name, e, &csv::number(b[(i, k)])]);
+                }
+            }
+        };
+        rows("policy", &s.variables, &x.p, &x.q);
+        let next: Vec<String> = x.states.iter().map(|st| shift(st)).collect();
+        rows("transition", &next, &x.g, &x.h);
     }
     out
 }
@@ -385,8 +400,12 @@ pub fn text(s: &SolvedModel) -> String {
     out
 }
 
-/// The name of a state one period on: `k[t-1]` becomes `k`, `e[t-3]` becomes `e[t-2]`.
+/// The name of a state one period on: `k[t-1]` becomes `k`, `e[t-3]` becomes `e[t-2]`, and a
+/// start-of-period stock `k` (spec §8) becomes `k[t+1]`.
 fn shift(state: &str) -> String {
+    if !state.contains('[') {
+        return format!("{state}[t+1]");
+    }
     if let Some((base, rest)) = state.split_once("[t-") {
         if let Some(num) = rest.strip_suffix(']') {
             if let Ok(l) = num.parse::<u32>() {

@@ -204,3 +204,41 @@ fn models_come_from_regular_files_or_standard_input() {
         assert!(text(&o.stderr).contains("not a regular file"));
     }
 }
+
+/// `solve --format csv` is one tidy table with the roots and, with a solution, every
+/// coefficient of the decision rule and the law of motion, equal to the JSON's.
+#[test]
+fn solve_csv_is_a_tidy_table_of_roots_and_rules() {
+    let o = saddle(&["solve", "models/harbour.saddle", "--format", "csv"]);
+    assert_eq!(code(&o), 0);
+    let t = text(&o.stdout);
+    let mut lines = t.lines();
+    assert_eq!(lines.next(), Some("part,row,term,value"));
+    let rows: Vec<Vec<&str>> = lines.map(|l| l.split(',').collect()).collect();
+    assert!(rows.iter().all(|r| r.len() == 4));
+    let j = saddle(&["solve", "models/harbour.saddle", "--format", "json"]);
+    let v: serde_json::Value = serde_json::from_slice(&j.stdout).unwrap();
+    let n_roots = v["roots"].as_array().unwrap().len();
+    assert_eq!(rows.iter().filter(|r| r[0] == "root").count(), 4 * n_roots);
+    // P row of `infl` on `drift[t-1]` and Q on `e_cost`, as in the JSON.
+    let value = |part: &str, row: &str, term: &str| -> f64 {
+        rows.iter()
+            .find(|r| r[0] == part && r[1] == row && r[2] == term)
+            .unwrap_or_else(|| panic!("no {part},{row},{term}"))[3]
+            .parse()
+            .unwrap()
+    };
+    let infl = 1; // declaration order: gap, infl, rate, drift
+    assert_eq!(
+        value("policy", "infl", "drift[t-1]"),
+        v["policy"]["states"][infl][0].as_f64().unwrap()
+    );
+    assert_eq!(
+        value("policy", "infl", "e_cost"),
+        v["policy"]["shocks"][infl][1].as_f64().unwrap()
+    );
+    assert_eq!(
+        value("transition", "drift", "drift[t-1]"),
+        v["transition"]["states"][0][0].as_f64().unwrap()
+    );
+}
