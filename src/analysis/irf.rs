@@ -178,3 +178,24 @@ pub fn impulse_responses(
         innovations: solved.shocks.clone(),
     })
 }
+
+impl ImpulseResponses {
+    /// The responses of the variables at `rows` (indices into `variables`, in the order given)
+    /// only; every shock is kept. Indices out of range are skipped. Returns the selection.
+    pub fn select(&self, rows: &[usize]) -> ImpulseResponses {
+        let rows: Vec<usize> = rows
+            .iter()
+            .copied()
+            .filter(|&r| r < self.variables.len())
+            .collect();
+        ImpulseResponses {
+            variables: rows.iter().map(|&r| self.variables[r].clone()).collect(),
+            responses: self
+                .responses
+                .iter()
+                .map(|m| DMatrix::from_fn(rows.len(), m.ncols(), |i, h| m[(rows[i], h)]))
+                .collect(),
+            ..self.clone()
+        }
+    }
+}

@@ -700,3 +700,38 @@ pub fn solve_sylvester_upper(
     }
     Ok(z)
 }
+
+impl Moments {
+    /// The moments of the variables at `rows` (indices into `variables`, in the order given)
+    /// only: their standard deviations, covariances and correlations among themselves,
+    /// autocorrelations and variance shares. Indices out of range are skipped. Returns the
+    /// selection.
+    pub fn select(&self, rows: &[usize]) -> Moments {
+        let rows: Vec<usize> = rows
+            .iter()
+            .copied()
+            .filter(|&r| r < self.variables.len())
+            .collect();
+        let pick = |m: &DMatrix<f64>| {
+            DMatrix::from_fn(rows.len(), rows.len(), |i, j| m[(rows[i], rows[j])])
+        };
+        let per = |v: &Vec<Vec<f64>>| rows.iter().map(|&r| v[r].clone()).collect::<Vec<_>>();
+        let variables: Vec<String> = rows.iter().map(|&r| self.variables[r].clone()).collect();
+        Moments {
+            std: rows.iter().map(|&r| self.std[r]).collect(),
+            covariance: pick(&self.covariance),
+            correlation: pick(&self.correlation),
+            autocorrelation: per(&self.autocorrelation),
+            variance_decomposition: per(&self.variance_decomposition),
+            fevd: self.fevd.iter().map(|(h, v)| (*h, per(v))).collect(),
+            nonstationary: self
+                .nonstationary
+                .iter()
+                .filter(|n| variables.contains(n))
+                .cloned()
+                .collect(),
+            variables,
+            ..self.clone()
+        }
+    }
+}

@@ -189,6 +189,9 @@ pub struct IrfArgs {
     pub file: PathBuf,
     #[command(flatten)]
     pub solve: SolveOptionArgs,
+    /// Only these variables (comma-separated or repeated), in the order given.
+    #[arg(long, value_name = "NAME,...", value_delimiter = ',')]
+    pub vars: Vec<String>,
     /// Innovation to shock (repeatable; default: every innovation).
     #[arg(long, value_name = "NAME")]
     pub shock: Vec<String>,
@@ -211,6 +214,9 @@ pub struct MomentsArgs {
     pub file: PathBuf,
     #[command(flatten)]
     pub solve: SolveOptionArgs,
+    /// Only these variables (comma-separated or repeated), in the order given.
+    #[arg(long, value_name = "NAME,...", value_delimiter = ',')]
+    pub vars: Vec<String>,
     /// Autocorrelations up to this lag.
     #[arg(long, value_name = "N", default_value_t = 5)]
     pub lags: u32,
@@ -228,6 +234,9 @@ pub struct SimulateArgs {
     pub file: PathBuf,
     #[command(flatten)]
     pub solve: SolveOptionArgs,
+    /// Only these variables (comma-separated or repeated), in the order given.
+    #[arg(long, value_name = "NAME,...", value_delimiter = ',')]
+    pub vars: Vec<String>,
     /// Seed of the random generator (same seed, same paths, on every platform).
     #[arg(long, value_name = "N", default_value_t = 1)]
     pub seed: u64,

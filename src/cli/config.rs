@@ -187,3 +187,31 @@ mod tests {
         assert!(parse_vary("phi_pi=0:inf:3").is_err());
     }
 }
+
+/// The positions of `--vars` names among the model's `variables`, in the order given (`None`
+/// when no name was given: every variable). An unknown name is a command-line error naming the
+/// variables (the first 20).
+pub fn select_variables(
+    names: &[String],
+    variables: &[String],
+) -> Result<Option<Vec<usize>>, Failure> {
+    if names.is_empty() {
+        return Ok(None);
+    }
+    let mut out = Vec::with_capacity(names.len());
+    for n in names {
+        match variables.iter().position(|v| v == n.trim()) {
+            Some(i) => out.push(i),
+            None => {
+                let shown: Vec<&str> = variables.iter().take(20).map(|s| s.as_str()).collect();
+                return Err(Failure::usage(format!(
+                    "--vars: `{}` is not an endogenous variable of the model (they are {}{})",
+                    n.trim(),
+                    shown.join(", "),
+                    if variables.len() > 20 { ", ..." } else { "" }
+                )));
+            }
+        }
+    }
+    Ok(Some(out))
+}

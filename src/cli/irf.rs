@@ -74,6 +74,10 @@ pub fn run(args: IrfArgs) -> Result<Outcome, Failure> {
     }
     let r = impulse_responses(&s.solved, &shocks, size, horizon)
         .map_err(|e| Failure::usage(e.to_string()))?;
+    let r = match super::config::select_variables(&args.vars, &r.variables)? {
+        Some(rows) => r.select(&rows),
+        None => r,
+    };
     let text = match args.format {
         Format::Text => render::text(&r, s.solved.title.as_deref(), &s.solved.log),
         Format::Json => render::json_with_warnings(&r, &s.solved.warnings),

@@ -87,6 +87,10 @@ pub fn run(args: MomentsArgs) -> Result<Outcome, Failure> {
     }
     let t0 = Instant::now();
     let m = moments(&s.solved, lags, &horizons).map_err(moments_failure)?;
+    let m = match super::config::select_variables(&args.vars, &m.variables)? {
+        Some(rows) => m.select(&rows),
+        None => m,
+    };
     let text = match args.format {
         Format::Text => render::to_text(&m, s.solved.title.as_deref()),
         Format::Json => render::to_json(&m).to_pretty_string(),

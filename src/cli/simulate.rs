@@ -62,6 +62,10 @@ pub fn run(args: SimulateArgs) -> Result<Outcome, Failure> {
         },
     )
     .map_err(simulate_failure)?;
+    let sim = match super::config::select_variables(&args.vars, &sim.variables)? {
+        Some(cols) => sim.select(&cols),
+        None => sim,
+    };
     let text = match (args.format, args.layout) {
         (Format::Csv, Layout::Wide) => render::to_csv_wide(&sim),
         (Format::Csv, Layout::Tidy) => render::to_csv_tidy(&sim),

@@ -242,3 +242,55 @@ fn solve_csv_is_a_tidy_table_of_roots_and_rules() {
         v["transition"]["states"][0][0].as_f64().unwrap()
     );
 }
+
+/// `--vars` selects variables, in the order given, for irf, moments and simulate; an unknown
+/// name is a command-line error (exit 2) naming the variables.
+#[test]
+fn vars_select_variables_in_the_order_given() {
+    let o = saddle(&[
+        "irf",
+        "models/harbour.saddle",
+        "--vars",
+        "infl,gap",
+        "--format",
+        "json",
+    ]);
+    assert_eq!(code(&o), 0);
+    let v: serde_json::Value = serde_json::from_slice(&o.stdout).unwrap();
+    let keys: Vec<&String> = v["responses"]["e_rate"]
+        .as_object()
+        .unwrap()
+        .keys()
+        .collect();
+    assert_eq!(keys, ["infl", "gap"]);
+    let all = saddle(&["irf", "models/harbour.saddle", "--format", "json"]);
+    let w: serde_json::Value = serde_json::from_slice(&all.stdout).unwrap();
+    assert_eq!(
+        v["responses"]["e_rate"]["infl"],
+        w["responses"]["e_rate"]["infl"]
+    );
+    let o = saddle(&[
+        "moments",
+        "models/harbour.saddle",
+        "--vars",
+        "rate",
+        "--format",
+        "json",
+    ]);
+    let m: serde_json::Value = serde_json::from_slice(&o.stdout).unwrap();
+    assert_eq!(m["variables"], serde_json::json!(["rate"]));
+    let o = saddle(&[
+        "simulate",
+        "models/harbour.saddle",
+        "--vars",
+        "drift",
+        "--periods",
+        "2",
+        "--format",
+        "csv",
+    ]);
+    assert!(text(&o.stdout).starts_with("period,drift\n"));
+    let o = saddle(&["irf", "models/harbour.saddle", "--vars", "nope"]);
+    assert_eq!(code(&o), 2);
+    assert!(text(&o.stderr).contains("gap, infl, rate, drift"));
+}
