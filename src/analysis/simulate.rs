@@ -311,6 +311,25 @@ pub fn simulate(
     })
 }
 
+impl Simulation {
+    /// The paths of the variables at `columns` (indices into `variables`, in the order given)
+    /// only. Indices out of range are skipped. Returns the selection.
+    pub fn select(&self, columns: &[usize]) -> Simulation {
+        let cols: Vec<usize> = columns
+            .iter()
+            .copied()
+            .filter(|&c| c < self.variables.len())
+            .collect();
+        Simulation {
+            variables: cols.iter().map(|&c| self.variables[c].clone()).collect(),
+            paths: DMatrix::from_fn(self.paths.nrows(), cols.len(), |t, j| {
+                self.paths[(t, cols[j])]
+            }),
+            ..self.clone()
+        }
+    }
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
@@ -366,24 +385,5 @@ mod tests {
         };
         assert_eq!(a, b);
         assert_ne!(a, c);
-    }
-}
-
-impl Simulation {
-    /// The paths of the variables at `columns` (indices into `variables`, in the order given)
-    /// only. Indices out of range are skipped. Returns the selection.
-    pub fn select(&self, columns: &[usize]) -> Simulation {
-        let cols: Vec<usize> = columns
-            .iter()
-            .copied()
-            .filter(|&c| c < self.variables.len())
-            .collect();
-        Simulation {
-            variables: cols.iter().map(|&c| self.variables[c].clone()).collect(),
-            paths: DMatrix::from_fn(self.paths.nrows(), cols.len(), |t, j| {
-                self.paths[(t, cols[j])]
-            }),
-            ..self.clone()
-        }
     }
 }

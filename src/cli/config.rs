@@ -166,28 +166,6 @@ fn is_identifier(s: &str) -> bool {
         && chars.all(|c| c.is_ascii_alphanumeric() || c == '_')
 }
 
-#[cfg(test)]
-mod tests {
-    use super::*;
-
-    #[test]
-    fn set_and_vary_parse_and_reject() {
-        assert_eq!(
-            parse_set("phi_pi=1.5").unwrap(),
-            ("phi_pi".to_string(), 1.5)
-        );
-        assert!(parse_set("phi_pi").is_err());
-        assert!(parse_set("phi_pi=nan").is_err());
-        assert!(parse_set("phi_pi=inf").is_err());
-        assert!(parse_set("1x=2").is_err());
-        let a = parse_vary("phi_pi=0:3:4").unwrap();
-        assert_eq!(a.values(), vec![0.0, 1.0, 2.0, 3.0]);
-        assert!(parse_vary("phi_pi=0:3").is_err());
-        assert!(parse_vary("phi_pi=0:3:0").is_err());
-        assert!(parse_vary("phi_pi=0:inf:3").is_err());
-    }
-}
-
 /// The positions of `--vars` names among the model's `variables`, in the order given (`None`
 /// when no name was given: every variable). An unknown name is a command-line error naming the
 /// variables (the first 20).
@@ -214,4 +192,26 @@ pub fn select_variables(
         }
     }
     Ok(Some(out))
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn set_and_vary_parse_and_reject() {
+        assert_eq!(
+            parse_set("phi_pi=1.5").unwrap(),
+            ("phi_pi".to_string(), 1.5)
+        );
+        assert!(parse_set("phi_pi").is_err());
+        assert!(parse_set("phi_pi=nan").is_err());
+        assert!(parse_set("phi_pi=inf").is_err());
+        assert!(parse_set("1x=2").is_err());
+        let a = parse_vary("phi_pi=0:3:4").unwrap();
+        assert_eq!(a.values(), vec![0.0, 1.0, 2.0, 3.0]);
+        assert!(parse_vary("phi_pi=0:3").is_err());
+        assert!(parse_vary("phi_pi=0:3:0").is_err());
+        assert!(parse_vary("phi_pi=0:inf:3").is_err());
+    }
 }
