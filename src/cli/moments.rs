@@ -87,6 +87,9 @@ pub fn run(args: MomentsArgs) -> Result<Outcome, Failure> {
     }
     let t0 = Instant::now();
     let m = moments(&s.solved, lags, &horizons).map_err(moments_failure)?;
+    // The solver's warnings travel with the moments (text notes and JSON `warnings`).
+    let mut m = m;
+    m.warnings.splice(0..0, s.solved.warnings.iter().cloned());
     let m = match super::config::select_variables(&args.vars, &m.variables)? {
         Some(rows) => m.select(&rows),
         None => m,

@@ -62,6 +62,10 @@ pub fn run(args: SimulateArgs) -> Result<Outcome, Failure> {
         },
     )
     .map_err(simulate_failure)?;
+    // The solver's warnings: on stderr whatever the format, and in the JSON as `warnings`.
+    for w in &s.solved.warnings {
+        super::output::eprintln_quiet(&format!("warning: {w}"));
+    }
     let sim = match super::config::select_variables(&args.vars, &sim.variables)? {
         Some(cols) => sim.select(&cols),
         None => sim,
@@ -69,7 +73,10 @@ pub fn run(args: SimulateArgs) -> Result<Outcome, Failure> {
     let text = match (args.format, args.layout) {
         (Format::Csv, Layout::Wide) => render::to_csv_wide(&sim),
         (Format::Csv, Layout::Tidy) => render::to_csv_tidy(&sim),
-        (Format::Json, _) => render::to_json(&sim).to_pretty_string(),
+        (Format::Json, _) => with_warnings(
+            &render::to_json(&sim).to_pretty_string(),
+            &s.solved.warnings,
+        ),
         (Format::Text, _) => render::to_text(&sim),
     };
     let text = super::solve::with_regime(text, args.format, &s);
@@ -105,4 +112,18 @@ pub fn run(args: SimulateArgs) -> Result<Outcome, Failure> {
         print_timings(&s, t0.elapsed());
     }
     Ok(Outcome::Success)
+}
+
+/// The JSON object `json` with a `warnings` list added (the solver's).
+fn with_warnings(json: &str, warnings: &[String]) -> String {
+    match serde_json::from_str::<serde_json::Value>(json) {
+        Ok(serde_json::Value::Object(mut o)) => {
+            o.insert("warnings".into(), serde_json::json!(warnings));
+            let mut out = serde_json::to_string_pretty(&serde_json::Value::Object(o))
+                .unwrap_or_else(|_| json.to_string());
+            out.push('\n');
+            out
+        }
+        _ => json.to_string(),
+    }
 }

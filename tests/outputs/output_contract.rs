@@ -294,3 +294,21 @@ fn vars_select_variables_in_the_order_given() {
     assert_eq!(code(&o), 2);
     assert!(text(&o.stderr).contains("gap, infl, rate, drift"));
 }
+
+/// The solver's warnings reach every command's output (moments and simulate dropped them).
+#[test]
+fn solver_warnings_reach_moments_and_simulate() {
+    let m = temp_model("endogenous\n  x\nexogenous\n  e\nequations\n  x = 0.5 * x[t-1] + e\n");
+    let path = m.path().to_str().unwrap();
+    for command in ["moments", "simulate"] {
+        let o = saddle(&[command, path, "--format", "json"]);
+        assert_eq!(code(&o), 0, "{command}");
+        let v: serde_json::Value = serde_json::from_slice(&o.stdout).unwrap();
+        let w = v["warnings"].as_array().unwrap();
+        assert!(
+            w.iter()
+                .any(|x| x.as_str().unwrap_or("").contains("no sd or var given")),
+            "{command}: {w:?}"
+        );
+    }
+}
