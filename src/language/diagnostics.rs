@@ -196,7 +196,8 @@ const TAB_COLUMNS: usize = 8;
 /// Characters of source shown on each side of the span in the plain form.
 const PLAIN_CONTEXT: usize = 40;
 
-/// Whether every line that `d` points into is narrow enough to draw.
+/// Whether every line that `d` points into is narrow enough to draw and free of control
+/// characters (the plain form replaces them).
 #[cfg(feature = "cli")]
 fn drawable(d: &Diagnostic, source: &str) -> bool {
     std::iter::once(d.span)
@@ -225,6 +226,8 @@ fn line_width(source: &str, span: Span) -> usize {
         match c {
             '\n' => width = 0,
             '\t' => width += TAB_COLUMNS,
+            // A control character would reach the terminal raw in the excerpt: not drawable.
+            c if c.is_control() && c != '\r' => return usize::MAX,
             _ => width += 1,
         }
         widest = widest.max(width);
@@ -241,9 +244,10 @@ pub fn render_plain(d: &Diagnostic, file_name: &str, source: &str) -> String {
         Severity::Warning => "warning",
     };
     let (line, col) = super::span::line_col(source, d.span.start);
+    // The same first line as the graphical form (`× message`), so tools read both alike.
     let mut out = format!(
-        "{kind}[{}]: {}\n  at {file_name}:{line}:{col}\n",
-        d.code, d.message
+        "  \u{d7} {}\n  at [{file_name}:{line}:{col}] ({kind}: {})\n",
+        d.message, d.code
     );
     let start = d.span.start.min(source.len());
     let end = d.span.end.clamp(start, source.len());

@@ -502,7 +502,27 @@ impl<'a> Lexer<'a> {
         let body = &self.source[span.start + 1..body_end];
         let mut value = String::with_capacity(body.len());
         let mut chars = body.char_indices();
+        let mut control_reported = false;
         while let Some((i, c)) = chars.next() {
+            if c.is_control() {
+                // A control character (an escape sequence, a bell) would go raw to the terminal
+                // wherever the title or label is printed.
+                if !control_reported {
+                    let at = span.start + 1 + i;
+                    self.diagnostics.push(
+                        Diagnostic::error(
+                            "control-in-string",
+                            format!("a control character (U+{:04X}) in a string", c as u32),
+                            Span::new(at, at + c.len_utf8()),
+                            "not printable",
+                        )
+                        .with_help("titles and labels hold printable text only"),
+                    );
+                    control_reported = true;
+                }
+                value.push(' ');
+                continue;
+            }
             if c != '\\' {
                 value.push(c);
                 continue;
