@@ -259,21 +259,7 @@ pub fn run(args: OptimizeArgs) -> Result<Outcome, Failure> {
     } else {
         Some(tune(&model, opts, &specs)?)
     };
-    let views: Vec<RegimeView> = results
-        .iter()
-        .map(|(regime, r)| RegimeView {
-            regime: *regime,
-            result: match r {
-                Ok(r) => Ok(RegimeData {
-                    solved: &r.solved,
-                    expected_loss: r.expected_loss,
-                    multipliers: &r.multipliers,
-                    controls: &controls,
-                }),
-                Err(e) => Err(e.clone()),
-            },
-        })
-        .collect();
+    let views = regime_views(&results, &controls);
     let text = match args.format {
         Format::Json => optimize_json(&views, tuned.as_ref(), &prov),
         _ => optimize_text(model.title.as_deref(), &views, tuned.as_ref(), &prov),
@@ -289,4 +275,27 @@ pub fn run(args: OptimizeArgs) -> Result<Outcome, Failure> {
         Some(o) => o,
         None => Outcome::Success,
     })
+}
+
+/// The renderers' view of each regime's result (a solution, or why there is none), shared by
+/// `optimize` and the report's policy section.
+pub(super) fn regime_views<'a>(
+    results: &'a [(Regime, Result<saddle::policy::RegimeSolution, String>)],
+    controls: &'a [usize],
+) -> Vec<RegimeView<'a>> {
+    results
+        .iter()
+        .map(|(regime, r)| RegimeView {
+            regime: *regime,
+            result: match r {
+                Ok(r) => Ok(RegimeData {
+                    solved: &r.solved,
+                    expected_loss: r.expected_loss,
+                    multipliers: &r.multipliers,
+                    controls,
+                }),
+                Err(e) => Err(e.clone()),
+            },
+        })
+        .collect()
 }

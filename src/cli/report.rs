@@ -169,7 +169,7 @@ pub fn run(args: ReportArgs) -> Result<Outcome, Failure> {
 /// The report's optimal-policy section: the model as written (overrides applied) solved under
 /// each regime; a regime that fails shows why.
 fn policy_section(file: &std::path::Path, settings: &SolveSettings) -> Result<String, Failure> {
-    use saddle::output::policy::{report_section, RegimeData, RegimeView};
+    use saddle::output::policy::report_section;
     use saddle::policy::{solve_regime, PolicyParams, Regime};
     let (model, _) = super::load::load_model(file)?;
     let model = super::solve::apply_overrides(model, &settings.overrides)?;
@@ -190,20 +190,6 @@ fn policy_section(file: &std::path::Path, settings: &SolveSettings) -> Result<St
                 )
             })
             .collect();
-    let views: Vec<RegimeView> = results
-        .iter()
-        .map(|(regime, r)| RegimeView {
-            regime: *regime,
-            result: match r {
-                Ok(r) => Ok(RegimeData {
-                    solved: &r.solved,
-                    expected_loss: r.expected_loss,
-                    multipliers: &r.multipliers,
-                    controls: &controls,
-                }),
-                Err(e) => Err(e.clone()),
-            },
-        })
-        .collect();
+    let views = super::optimize::regime_views(&results, &controls);
     Ok(report_section(&views))
 }
