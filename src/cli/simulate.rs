@@ -92,7 +92,7 @@ pub fn run(args: SimulateArgs) -> Result<Outcome, Failure> {
             None => "Simulated paths".to_string(),
         };
         let note = format!(
-            "{} Seed {}, {} periods kept after a burn-in of {}.",
+            "{}\nSeed {}, {} periods kept after a burn-in of {}.",
             s.provenance.text_line(),
             args.seed,
             periods,

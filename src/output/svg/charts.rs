@@ -152,9 +152,8 @@ pub fn simulation_chart(
         panels,
     };
     let mut notes = Vec::new();
-    if !note.is_empty() {
-        notes.push(note.to_string());
-    }
+    // One note per line of `note` (the provenance line apart from the run's settings).
+    notes.extend(note.lines().filter(|l| !l.is_empty()).map(str::to_string));
     notes.push("Results are conditional on the model and its calibration.".to_string());
     panel_grids(
         std::slice::from_ref(&grid),
