@@ -150,6 +150,8 @@ pub enum RegimeArg {
 
 #[derive(Debug, Args)]
 pub struct OptimizeArgs {
+    /// Model file (.saddle), or `-` to read the model from standard input.
+    #[arg(value_name = "FILE")]
     pub file: PathBuf,
     #[command(flatten)]
     pub solve: SolveOptionArgs,
@@ -165,7 +167,8 @@ pub struct OptimizeArgs {
 
 #[derive(Debug, Args)]
 pub struct CheckArgs {
-    /// Model file (.saddle).
+    /// Model file (.saddle), or `-` to read the model from standard input.
+    #[arg(value_name = "FILE")]
     pub file: PathBuf,
     #[arg(long, value_enum, default_value_t = CheckFormat::Text)]
     pub format: CheckFormat,
@@ -175,6 +178,8 @@ pub struct CheckArgs {
 
 #[derive(Debug, Args)]
 pub struct SolveArgs {
+    /// Model file (.saddle), or `-` to read the model from standard input.
+    #[arg(value_name = "FILE")]
     pub file: PathBuf,
     #[command(flatten)]
     pub solve: SolveOptionArgs,
@@ -186,6 +191,8 @@ pub struct SolveArgs {
 
 #[derive(Debug, Args)]
 pub struct IrfArgs {
+    /// Model file (.saddle), or `-` to read the model from standard input.
+    #[arg(value_name = "FILE")]
     pub file: PathBuf,
     #[command(flatten)]
     pub solve: SolveOptionArgs,
@@ -211,6 +218,8 @@ pub struct IrfArgs {
 
 #[derive(Debug, Args)]
 pub struct MomentsArgs {
+    /// Model file (.saddle), or `-` to read the model from standard input.
+    #[arg(value_name = "FILE")]
     pub file: PathBuf,
     #[command(flatten)]
     pub solve: SolveOptionArgs,
@@ -231,6 +240,8 @@ pub struct MomentsArgs {
 
 #[derive(Debug, Args)]
 pub struct SimulateArgs {
+    /// Model file (.saddle), or `-` to read the model from standard input.
+    #[arg(value_name = "FILE")]
     pub file: PathBuf,
     #[command(flatten)]
     pub solve: SolveOptionArgs,
@@ -262,6 +273,8 @@ pub struct SimulateArgs {
 
 #[derive(Debug, Args)]
 pub struct ReportArgs {
+    /// Model file (.saddle), or `-` to read the model from standard input.
+    #[arg(value_name = "FILE")]
     pub file: PathBuf,
     #[command(flatten)]
     pub solve: SolveOptionArgs,
@@ -279,6 +292,8 @@ pub struct ReportArgs {
 
 #[derive(Debug, Args)]
 pub struct SweepArgs {
+    /// Model file (.saddle), or `-` to read the model from standard input.
+    #[arg(value_name = "FILE")]
     pub file: PathBuf,
     #[command(flatten)]
     pub solve: SolveOptionArgs,
@@ -310,6 +325,8 @@ pub enum Measure {
 /// Options of the data commands `filter` and `decompose` (cli.md "Data commands").
 #[derive(Debug, Args)]
 pub struct DataCommandArgs {
+    /// Model file (.saddle), or `-` to read the model from standard input.
+    #[arg(value_name = "FILE")]
     pub file: PathBuf,
     #[command(flatten)]
     pub solve: SolveOptionArgs,
@@ -329,6 +346,8 @@ pub struct DataCommandArgs {
 /// Options of `saddle estimate` (cli.md "Data commands").
 #[derive(Debug, Args)]
 pub struct EstimateArgs {
+    /// Model file (.saddle), or `-` to read the model from standard input.
+    #[arg(value_name = "FILE")]
     pub file: PathBuf,
     #[command(flatten)]
     pub solve: SolveOptionArgs,

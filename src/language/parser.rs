@@ -2,12 +2,14 @@
 //!
 //! Contract: [`parse`] never fails and never panics. It returns the statements that parsed and a
 //! diagnostic for each problem (bad characters, unterminated strings, unexpected tokens, input
-//! past the size limits); a statement with an error is skipped up to its end of line and parsing
-//! goes on with the next. The generated LR parser keeps its stack on the heap, and the lexer's
+//! past the size limits). The lexer ends every statement with a newline token; the grammar's
+//! `Statement` parser is run on each statement's tokens in turn, so a statement with an error is
+//! reported once and skipped whole, and parsing goes on with the next: one pass over the tokens,
+//! linear in the file's size whatever a broken statement holds. The generated LR parser keeps its stack on the heap, and the lexer's
 //! limits ([`super::lexer::MAX_BRACKET_DEPTH`], [`super::lexer::MAX_STATEMENT_TOKENS`]) and the
 //! expression-depth limit here ([`MAX_EXPR_DEPTH`]) bound every recursive pass after it.
 
-use lalrpop_util::{lalrpop_mod, ErrorRecovery, ParseError};
+use lalrpop_util::{lalrpop_mod, ParseError};
 
 use super::ast::{BinOp, Expr, ExprKind, File, Func, Name};
 use super::diagnostics::Diagnostic;
@@ -43,14 +45,14 @@ pub const MAX_LINE_BYTES: usize = 1024 * 1024;
 
 /// State shared with the grammar's actions: the diagnostics they add.
 pub struct ParseContext<'input> {
-    source: &'input str,
+    _source: std::marker::PhantomData<&'input str>,
     pub diagnostics: Vec<Diagnostic>,
 }
 
 impl<'input> ParseContext<'input> {
-    fn new(source: &'input str) -> Self {
+    fn new(_source: &'input str) -> Self {
         ParseContext {
-            source,
+            _source: std::marker::PhantomData,
             diagnostics: Vec::new(),
         }
     }
@@ -205,13 +207,6 @@ impl<'input> ParseContext<'input> {
             .with_help(format!("choose another name, such as `{word}_`")),
         );
         Name { text: word, span }
-    }
-
-    /// Records a syntax error the parser recovered from.
-    pub fn recovered(&mut self, e: ErrorRecovery<usize, Tok<'input>, LexError>) {
-        if let Some(d) = syntax_diagnostic(self.source, e.error) {
-            self.diagnostics.push(d);
-        }
     }
 }
 
@@ -404,18 +399,40 @@ pub fn parse(source: &str) -> (File<'_>, Vec<Diagnostic>) {
     }
     let mut lexer = Lexer::new(source);
     let mut ctx = ParseContext::new(source);
-    let result = grammar::FileParser::new().parse(&mut ctx, &mut lexer);
+    let parser = grammar::StatementParser::new();
+    let mut statements = Vec::new();
+    let mut syntax = Vec::new();
+    let mut tokens = Vec::new();
+    // One statement at a time: its tokens up to and including the newline the lexer ends it with.
+    loop {
+        tokens.clear();
+        for t in lexer.by_ref() {
+            let end = matches!(t, Ok((_, Tok::Newline, _)));
+            tokens.push(t);
+            if end {
+                break;
+            }
+        }
+        if tokens.is_empty() {
+            break;
+        }
+        if !matches!(tokens.last(), Some(Ok((_, Tok::Newline, _)))) {
+            // The lexer closes every statement at the end of the input; keep the guarantee here.
+            tokens.push(Ok((source.len(), Tok::Newline, source.len())));
+        }
+        match parser.parse(&mut ctx, tokens.drain(..)) {
+            Ok(statement) => statements.push(statement),
+            Err(e) => {
+                if let Some(d) = syntax_diagnostic(source, e) {
+                    syntax.push(d);
+                }
+            }
+        }
+    }
+    let file = File { statements };
     let mut diags = std::mem::take(&mut lexer.diagnostics);
     diags.append(&mut ctx.diagnostics);
-    let file = match result {
-        Ok(f) => f,
-        Err(e) => {
-            if let Some(d) = syntax_diagnostic(source, e) {
-                diags.push(d);
-            }
-            File::default()
-        }
-    };
+    diags.append(&mut syntax);
     super::diagnostics::finish(&mut diags);
     (file, diags)
 }

@@ -168,6 +168,38 @@ fn hostile_files_through_the_binary() {
 }
 
 #[test]
+fn broken_statements_of_chained_operators_recover_in_one_pass() {
+    // Twenty statements, each 20,000 unary minus signs or a 20,000-story power tower followed by
+    // a syntax error and 16,000 more tokens. The generated parser's own recovery scanned its whole
+    // stack for every dropped token (30 s in the release build for the tower); each statement
+    // must be reported once and skipped.
+    for chain in ["-", "x ^ "] {
+        let mut src = String::from("endogenous\n  x\nequations\n");
+        for i in 0..20 {
+            src.push_str(&format!(
+                "  bad{i}: x = {} , {}\n",
+                chain.repeat(20_000),
+                vec!["x"; 16_000].join(" + ")
+            ));
+        }
+        let started = Instant::now();
+        let d = check_source(&src).unwrap_err();
+        assert!(
+            started.elapsed() < QUICK,
+            "{chain:?}: took {:?}",
+            started.elapsed()
+        );
+        let syntax = d.iter().filter(|d| d.code == "syntax").count();
+        assert_eq!(
+            syntax,
+            20,
+            "{chain:?}: {:?}",
+            d.iter().map(|d| d.code).collect::<Vec<_>>()
+        );
+    }
+}
+
+#[test]
 fn quadratic_traps_stay_linear() {
     let n = 50_000;
     // Many valueless parameters; many unknown names among many declared ones; a long chain of
