@@ -4,7 +4,7 @@
 //!     y_t - ybar = P s_{t-1} + Q e_t,     s_t = G s_{t-1} + H e_t,     e_t ~ iid (0, Sigma)
 //! ```
 //!
-//! * Var(s) = X solves X = G X G' + H Sigma H' (discrete Lyapunov, [`super::lyapunov`]);
+//! * Var(s) = X solves X = G X G' + H Sigma H' (discrete Lyapunov, [`crate::linalg::lyapunov`]);
 //!   Var(y) = P X P' + Q Sigma Q' (s_{t-1} is independent of e_t).
 //! * Cov(y_t, y_{t-k}) = P G^k X P' + P G^{k-1} H Sigma Q' for k >= 1; the autocorrelation of
 //!   variable i at lag k is its diagonal entry over Var(y_i).
@@ -27,9 +27,10 @@
 use nalgebra::DMatrix;
 use thiserror::Error;
 
-use super::lyapunov::{
-    cmul, frobenius_c, solve_quasi_triangular_stein, solve_triangular_stein, ComplexSchur,
-    LyapunovError, RealSchur, C64, RESIDUAL_TOL,
+use crate::linalg::{
+    cmul, doubling, frobenius_c, relative_residual, semidefinite_factor,
+    solve_quasi_triangular_stein, solve_sylvester_upper, solve_triangular_stein, to_complex,
+    ComplexSchur, FactorError, LyapunovError, LyapunovMethod, LyapunovParams, RealSchur, C64,
 };
 use crate::solution::{SolvedModel, StateSpace, Status};
 
@@ -96,6 +97,8 @@ pub enum MomentsError {
     Covariance(#[from] CovarianceError),
     #[error(transparent)]
     Lyapunov(#[from] LyapunovError),
+    #[error("the Lyapunov solve of the stable block left a relative residual {residual:e} above the tolerance {tolerance:e} (doubling does not apply: the transition matrix has unit or explosive roots)")]
+    StableBlockResidual { residual: f64, tolerance: f64 },
     #[error("the stable and the unit or explosive modes of the transition matrix are too close to be separated (eigenvalue gap {gap:e})")]
     Inseparable { gap: f64 },
     #[error("at most {MAX_LAGS} autocorrelation lags, got {0}")]
@@ -127,6 +130,8 @@ pub struct Moments {
     pub warnings: Vec<String>,
     /// Relative residual of the Lyapunov solve of the stable block.
     pub lyapunov_residual: f64,
+    /// Which algorithm solved it: the Schur route, or doubling when that failed.
+    pub lyapunov_method: LyapunovMethod,
 }
 
 /// The lower-triangular factor L with L L' = `cov` (Cholesky, innovations in declaration order),
@@ -144,66 +149,26 @@ pub fn covariance_factor(
             shocks: n,
         });
     }
-    for i in 0..n {
-        for j in 0..n {
-            if !cov[(i, j)].is_finite() {
-                return Err(CovarianceError::NonFinite {
-                    shock: shocks[i].clone(),
-                });
+    semidefinite_factor(cov, PIVOT_TOL).map_err(|e| match e {
+        FactorError::Shape { rows, cols } => CovarianceError::Shape {
+            rows,
+            cols,
+            shocks: n,
+        },
+        FactorError::NonFinite { row } => CovarianceError::NonFinite {
+            shock: shocks[row].clone(),
+        },
+        FactorError::NotSymmetric { first, second } => CovarianceError::NotSymmetric {
+            first: shocks[first].clone(),
+            second: shocks[second].clone(),
+        },
+        FactorError::NotPositiveSemidefinite { index, pivot } => {
+            CovarianceError::NotPositiveSemidefinite {
+                shock: shocks[index].clone(),
+                pivot,
             }
         }
-    }
-    let scale = (0..n).map(|i| cov[(i, i)].abs()).fold(0.0, f64::max);
-    for i in 0..n {
-        for j in 0..i {
-            if (cov[(i, j)] - cov[(j, i)]).abs() > PIVOT_TOL * scale.max(f64::MIN_POSITIVE) {
-                return Err(CovarianceError::NotSymmetric {
-                    first: shocks[j].clone(),
-                    second: shocks[i].clone(),
-                });
-            }
-        }
-    }
-    let zero = PIVOT_TOL * scale;
-    let mut l = DMatrix::<f64>::zeros(n, n);
-    for j in 0..n {
-        let mut d = cov[(j, j)];
-        for k in 0..j {
-            d -= l[(j, k)] * l[(j, k)];
-        }
-        if d < -zero {
-            return Err(CovarianceError::NotPositiveSemidefinite {
-                shock: shocks[j].clone(),
-                pivot: d,
-            });
-        }
-        if d <= zero {
-            // Degenerate: the rest of the column must vanish too, or the matrix is indefinite.
-            for i in (j + 1)..n {
-                let mut s = cov[(i, j)];
-                for k in 0..j {
-                    s -= l[(i, k)] * l[(j, k)];
-                }
-                if s.abs() > zero.sqrt() * scale.sqrt() + zero {
-                    return Err(CovarianceError::NotPositiveSemidefinite {
-                        shock: shocks[j].clone(),
-                        pivot: d,
-                    });
-                }
-            }
-            continue;
-        }
-        let r = d.sqrt();
-        l[(j, j)] = r;
-        for i in (j + 1)..n {
-            let mut s = cov[(i, j)];
-            for k in 0..j {
-                s -= l[(i, k)] * l[(j, k)];
-            }
-            l[(i, j)] = s / r;
-        }
-    }
-    Ok(l)
+    })
 }
 
 /// Checks that the state space's matrices agree with each other and with the model's lists.
@@ -245,12 +210,27 @@ pub fn check_shapes(solved: &SolvedModel, ss: &StateSpace) -> Result<(), Moments
 }
 
 /// Computes every moment of [`Moments`] from a determinate solution (reads only). `lags` is the
-/// largest autocorrelation lag, `horizons` the FEVD horizons (each at least 1).
+/// largest autocorrelation lag, `horizons` the FEVD horizons (each at least 1). The Lyapunov
+/// solves use the default [`LyapunovParams`]; see [`moments_with`].
 pub fn moments(
     solved: &SolvedModel,
     lags: usize,
     horizons: &[usize],
 ) -> Result<Moments, MomentsError> {
+    moments_with(solved, lags, horizons, &LyapunovParams::default())
+}
+
+/// As [`moments`], with the Lyapunov solver's tuning `params`. When every mode is stable and the
+/// Schur route fails (the QR iteration exceeds its sweep budget, or the residual is above
+/// `params.residual_tol`), the covariances come from doubling instead, checked by the same
+/// residual test ([`Moments::lyapunov_method`] says which ran).
+pub fn moments_with(
+    solved: &SolvedModel,
+    lags: usize,
+    horizons: &[usize],
+    params: &LyapunovParams,
+) -> Result<Moments, MomentsError> {
+    params.validate()?;
     let ss = match (&solved.solution, solved.status) {
         (Some(ss), Status::Determinate) => ss,
         _ => {
@@ -280,11 +260,21 @@ pub fn moments(
         ));
     }
 
-    let real = RealSchur::new(&ss.g)?;
-    let core = if real.spectral_radius() < 1.0 - UNIT_ROOT_TOL {
-        core_stationary(ss, &solved.covariance, &l, &real, lags)?
-    } else {
-        core_with_unit_roots(solved, ss, &l, lags)?
+    let sigma = &solved.covariance;
+    let core = match RealSchur::with_sweeps(&ss.g, params.schur_sweeps_per_dim) {
+        Ok(real) if real.spectral_radius() < 1.0 - UNIT_ROOT_TOL => {
+            match core_stationary(ss, sigma, &l, &real, lags, params.residual_tol)? {
+                Ok(core) => core,
+                Err(schur_residual) => core_doubling(ss, sigma, &l, lags, params, schur_residual)?,
+            }
+        }
+        Ok(_) => core_with_unit_roots(solved, ss, &l, lags, params.residual_tol)?,
+        // Without a Schur form the spectral radius is unknown: doubling diverges on an unstable
+        // G, which its residual test then reports.
+        Err(LyapunovError::SchurNoConvergence) => {
+            core_doubling(ss, sigma, &l, lags, params, f64::INFINITY)?
+        }
+        Err(e) => return Err(e.into()),
     };
     let Core {
         stationary,
@@ -293,6 +283,7 @@ pub fn moments(
         autocov,
         residual: lyapunov_residual,
         warnings: more,
+        method: lyapunov_method,
     } = core;
     warnings.extend(more);
 
@@ -379,6 +370,7 @@ pub fn moments(
         nonstationary,
         warnings,
         lyapunov_residual,
+        lyapunov_method,
     })
 }
 
@@ -394,6 +386,7 @@ struct Core {
     autocov: Vec<Vec<f64>>,
     residual: f64,
     warnings: Vec<String>,
+    method: LyapunovMethod,
 }
 
 /// The relative residual ||Y - T Y T' - C||_F / (||C||_F + ||T||_F^2 ||Y||_F) (0 if all zero).
@@ -409,14 +402,17 @@ fn stein_residual_real(t: &DMatrix<f64>, y: &DMatrix<f64>, c: &DMatrix<f64>) -> 
 
 /// Every mode stable: real Schur basis G = U T U', per-innovation Y_j = T Y_j T' + b_j b_j'
 /// with b_j = U' H l_j, Var_j(y_i) = (P U Y_j U' P')_ii + (Q l_j)_i^2; autocovariances from
-/// S_1 = T Y U'P' + (U'H L) L'Q', S_k = T S_{k-1}, diag(P U S_k). Reads only.
+/// S_1 = T Y U'P' + (U'H L) L'Q', S_k = T S_{k-1}, diag(P U S_k). Reads only. Returns the core,
+/// or `Ok(Err(residual))` when the residual of the summed solve exceeds `tol` (the caller falls
+/// back to doubling).
 fn core_stationary(
     ss: &StateSpace,
     sigma: &DMatrix<f64>,
     l: &DMatrix<f64>,
     schur: &RealSchur,
     lags: usize,
-) -> Result<Core, MomentsError> {
+    tol: f64,
+) -> Result<Result<Core, f64>, MomentsError> {
     let ny = ss.p.nrows();
     let ne = l.ncols();
     let ns = ss.g.nrows();
@@ -439,12 +435,8 @@ fn core_stationary(
     let y_total = (&y_total + y_total.transpose()) * 0.5;
     let c_total = &uhl * uhl.transpose();
     let residual = stein_residual_real(&schur.t, &y_total, &c_total);
-    if residual.is_nan() || residual > RESIDUAL_TOL {
-        return Err(MomentsError::Lyapunov(LyapunovError::NoConvergence {
-            schur_residual: residual,
-            doubling_residual: f64::NAN,
-            steps: 0,
-        }));
+    if !(residual <= tol) {
+        return Ok(Err(residual));
     }
     let v = &pu * &y_total * pu.transpose() + &ss.q * sigma * ss.q.transpose();
     let var_full = (&v + v.transpose()) * 0.5;
@@ -459,6 +451,71 @@ fn core_stationary(
             s = &schur.t * &s;
         }
     }
+    Ok(Ok(Core {
+        stationary: vec![true; ny],
+        part,
+        var_full,
+        autocov,
+        residual,
+        warnings: Vec::new(),
+        method: LyapunovMethod::Schur,
+    }))
+}
+
+/// The doubling fallback of [`moments_with`] in the original basis: per innovation
+/// X_j = G X_j G' + H l_j l_j' H' by doubling, Var_j(y_i) = (P X_j P')_ii + (Q l_j)_i^2; the sum
+/// X is checked by [`relative_residual`] against `params.residual_tol`; autocovariances from
+/// S_1 = G X P' + H L L'Q', S_k = G S_{k-1}, diag(P S_k). Reads only; returns the core, or
+/// [`LyapunovError::NoConvergence`] with both residuals.
+fn core_doubling(
+    ss: &StateSpace,
+    sigma: &DMatrix<f64>,
+    l: &DMatrix<f64>,
+    lags: usize,
+    params: &LyapunovParams,
+    schur_residual: f64,
+) -> Result<Core, MomentsError> {
+    let ny = ss.p.nrows();
+    let ne = l.ncols();
+    let ns = ss.g.nrows();
+    let hl = &ss.h * l;
+    let ql = &ss.q * l;
+    let mut part = DMatrix::<f64>::zeros(ny, ne);
+    let mut x_total = DMatrix::<f64>::zeros(ns, ns);
+    let mut steps = 0;
+    for j in 0..ne {
+        let b = hl.column(j);
+        let (xj, taken) = doubling(&ss.g, &(b * b.transpose()), params.max_doubling_steps);
+        steps = steps.max(taken);
+        let px = &ss.p * &xj;
+        for i in 0..ny {
+            let s = px.row(i).dot(&ss.p.row(i));
+            part[(i, j)] = s.max(0.0) + ql[(i, j)] * ql[(i, j)];
+        }
+        x_total += xj;
+    }
+    let x_total = (&x_total + x_total.transpose()) * 0.5;
+    let residual = relative_residual(&ss.g, &(&hl * hl.transpose()), &x_total);
+    if !(residual <= params.residual_tol) {
+        return Err(MomentsError::Lyapunov(LyapunovError::NoConvergence {
+            schur_residual,
+            doubling_residual: residual,
+            steps,
+            tolerance: params.residual_tol,
+        }));
+    }
+    let v = &ss.p * &x_total * ss.p.transpose() + &ss.q * sigma * ss.q.transpose();
+    let var_full = (&v + v.transpose()) * 0.5;
+    let mut autocov = vec![Vec::with_capacity(lags); ny];
+    if lags > 0 {
+        let mut s = &ss.g * (&x_total * ss.p.transpose()) + &hl * ql.transpose();
+        for _ in 1..=lags {
+            for (i, a) in autocov.iter_mut().enumerate() {
+                a.push(ss.p.row(i).dot(&s.column(i).transpose()));
+            }
+            s = &ss.g * &s;
+        }
+    }
     Ok(Core {
         stationary: vec![true; ny],
         part,
@@ -466,6 +523,7 @@ fn core_stationary(
         autocov,
         residual,
         warnings: Vec::new(),
+        method: LyapunovMethod::Doubling,
     })
 }
 
@@ -477,6 +535,7 @@ fn core_with_unit_roots(
     ss: &StateSpace,
     l: &DMatrix<f64>,
     lags: usize,
+    tol: f64,
 ) -> Result<Core, MomentsError> {
     let ny = solved.variables.len();
     let ne = solved.shocks.len();
@@ -489,10 +548,11 @@ fn core_with_unit_roots(
     let t11 = schur.t.view((0, 0), (n1, n1)).into_owned();
     let t12 = schur.t.view((0, n1), (n1, n2)).into_owned();
     let t22 = schur.t.view((n1, n1), (n2, n2)).into_owned();
-    let z = solve_sylvester_upper(&t11, &t22, &(-t12))?;
-    let pc = ss.p.map(|v| C64::new(v, 0.0));
+    let z = solve_sylvester_upper(&t11, &t22, &(-t12))
+        .map_err(|e| MomentsError::Inseparable { gap: e.gap })?;
+    let pc = to_complex(&ss.p);
     let hl = &ss.h * l;
-    let hlc = hl.map(|v| C64::new(v, 0.0));
+    let hlc = to_complex(&hl);
     let pu = cmul(&pc, &schur.u);
     let uhl = cmul(&schur.u.adjoint(), &hlc);
     let c1 = pu.columns(0, n1).into_owned();
@@ -545,7 +605,7 @@ fn core_with_unit_roots(
     }
 
     // Per-innovation stable-block covariances Y_j = T11 Y_j T11^H + b_j b_j^H.
-    let qc = ss.q.map(|v| C64::new(v, 0.0));
+    let qc = to_complex(&ss.q);
     let ql = &ss.q * l;
     let mut y_total = DMatrix::<C64>::zeros(n1, n1);
     let mut c_total = DMatrix::<C64>::zeros(n1, n1);
@@ -574,12 +634,11 @@ fn core_with_unit_roots(
             frobenius_c(&r) / denom
         }
     };
-    if lyapunov_residual.is_nan() || lyapunov_residual > RESIDUAL_TOL {
-        return Err(MomentsError::Lyapunov(LyapunovError::NoConvergence {
-            schur_residual: lyapunov_residual,
-            doubling_residual: f64::NAN,
-            steps: 0,
-        }));
+    if !(lyapunov_residual <= tol) {
+        return Err(MomentsError::StableBlockResidual {
+            residual: lyapunov_residual,
+            tolerance: tol,
+        });
     }
     let sigma = &solved.covariance;
     let var_full = {
@@ -591,7 +650,7 @@ fn core_with_unit_roots(
     let mut autocov = vec![Vec::with_capacity(lags); ny];
     if lags > 0 {
         // With e = L u (Var u = I), E[v1_{t-1} e_{t-k}'] = T11^{k-1} B1 L' for k >= 1.
-        let lt = l.transpose().map(|v| C64::new(v, 0.0));
+        let lt = to_complex(&l.transpose());
         let mut s =
             cmul(&t11, &cmul(&y_total, &c1.adjoint())) + cmul(&cmul(&b1, &lt), &qc.transpose());
         for _ in 1..=lags {
@@ -613,6 +672,7 @@ fn core_with_unit_roots(
         autocov,
         residual: lyapunov_residual,
         warnings,
+        method: LyapunovMethod::Schur,
     })
 }
 
@@ -663,42 +723,6 @@ pub fn forecast_error_decomposition(
         .iter()
         .filter_map(|h| at.get(h).map(|s| (*h, s.clone())))
         .collect()
-}
-
-/// Solves T11 Z - Z T22 = F for upper-triangular `t11` (n1 x n1) and `t22` (n2 x n2), column by
-/// column (Bartels and Stewart 1972, Comm. ACM 15). Reads only; returns Z (n1 x n2), or
-/// [`MomentsError::Inseparable`] when an eigenvalue of T11 is too close to one of T22.
-pub fn solve_sylvester_upper(
-    t11: &DMatrix<C64>,
-    t22: &DMatrix<C64>,
-    f: &DMatrix<C64>,
-) -> Result<DMatrix<C64>, MomentsError> {
-    let n1 = t11.nrows();
-    let n2 = t22.nrows();
-    let mut z = DMatrix::<C64>::zeros(n1, n2);
-    let scale = frobenius_c(t11).max(frobenius_c(t22)).max(1.0);
-    for j in 0..n2 {
-        let mut b: Vec<C64> = (0..n1).map(|i| f[(i, j)]).collect();
-        for l in 0..j {
-            let w = t22[(l, j)];
-            for (i, bi) in b.iter_mut().enumerate() {
-                *bi += z[(i, l)] * w;
-            }
-        }
-        let mu = t22[(j, j)];
-        for i in (0..n1).rev() {
-            let d = t11[(i, i)] - mu;
-            if d.norm() < 1e3 * f64::EPSILON * scale {
-                return Err(MomentsError::Inseparable { gap: d.norm() });
-            }
-            let zi = b[i] / d;
-            z[(i, j)] = zi;
-            for (k, bk) in b[..i].iter_mut().enumerate() {
-                *bk -= t11[(k, i)] * zi;
-            }
-        }
-    }
-    Ok(z)
 }
 
 impl Moments {
