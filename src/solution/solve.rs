@@ -27,10 +27,11 @@ use super::{Counts, Root, SolvedModel, StateSpace, Status};
 use crate::canonical::{
     build_pencil, CanonicalError, Layout, Pencil, StateElement, StaticTreatment,
 };
+use crate::linalg::{cmul, to_complex};
 use crate::linear::balance::{scaled, Scaling};
 use crate::linear::{linearize, LinearError, LinearSystem};
 use crate::model::{timing, Model};
-use crate::qz::{GeneralizedSchur, QzError, C64};
+use crate::qz::{root_position, GeneralizedSchur, QzError, RootPosition, C64};
 use crate::steady::{solve_steady, SteadyError};
 use crate::symbolic::CompiledModel;
 
@@ -518,18 +519,18 @@ pub fn threshold(model: &Model, setting: ThresholdSetting) -> Result<f64, SolveE
     }
 }
 
-/// Whether |alpha/beta| counts as stable against `tau` (without forming the ratio).
+/// Whether |alpha/beta| counts as stable against `tau` (without forming the ratio): an infinite
+/// root (|alpha| > [`INFINITE_MODULUS`] |beta|) never; a root in the [`BOUNDARY_TOL`] band of
+/// [`root_position`] as `boundary_stable` says.
 pub fn is_stable(alpha: C64, beta: C64, tau: f64, boundary_stable: bool) -> bool {
-    let a = alpha.norm();
-    let b = beta.norm();
-    if a > INFINITE_MODULUS * b {
+    if alpha.norm() > INFINITE_MODULUS * beta.norm() {
         return false;
     }
-    let limit = tau * b;
-    if (a - limit).abs() <= BOUNDARY_TOL * a.max(limit) {
-        return boundary_stable;
+    match root_position(alpha, beta, tau, BOUNDARY_TOL) {
+        RootPosition::Inside => true,
+        RootPosition::Boundary => boundary_stable,
+        RootPosition::Outside => false,
     }
-    a < limit
 }
 
 /// The roots by increasing modulus, infinite ones last.
@@ -564,7 +565,8 @@ fn roots_table(pairs: &[(C64, C64)], tau: f64, boundary_stable: bool) -> Vec<Roo
                     modulus: Some(modulus),
                     infinite: false,
                     stable,
-                    boundary: (modulus - tau).abs() <= BOUNDARY_TOL * modulus.max(tau),
+                    boundary: root_position(lambda, C64::new(1.0, 0.0), tau, BOUNDARY_TOL)
+                        == RootPosition::Boundary,
                 }
             }
         })
@@ -618,10 +620,6 @@ enum RuleOutcome {
     },
 }
 
-fn cplx(m: &DMatrix<f64>) -> DMatrix<C64> {
-    m.map(|x| C64::new(x, 0.0))
-}
-
 /// Largest block for which the rank condition uses an exact SVD.
 const SVD_LIMIT: usize = 60;
 /// Power-iteration steps for the 2-norm estimate (convergence is geometric in the ratio of the two
@@ -646,16 +644,6 @@ fn inverse_norm_estimate(w: &DMatrix<C64>) -> f64 {
         v = z / C64::new(nz, 0.0);
     }
     est
-}
-
-/// The complex product a b through four real products (the real kernel is blocked and much
-/// faster than the generic complex one). Returns a new matrix.
-fn cmul(a: &DMatrix<C64>, b: &DMatrix<C64>) -> DMatrix<C64> {
-    let (ar, ai) = (a.map(|v| v.re), a.map(|v| v.im));
-    let (br, bi) = (b.map(|v| v.re), b.map(|v| v.im));
-    let re = &ar * &br - &ai * &bi;
-    let im = &ar * &bi + &ai * &br;
-    re.zip_map(&im, C64::new)
 }
 
 /// Solves `lhs * X = rhs` by LU; `None` if `lhs` is singular.
@@ -713,7 +701,7 @@ fn decision_rule(
     };
     let nu = dim - ns;
     let (q, z, s, t) = (schur.q(), schur.z(), schur.s(), schur.t());
-    let qc = cmul(&q.adjoint(), &cplx(&pencil.c));
+    let qc = cmul(&q.adjoint(), &to_complex(&pencil.c));
     let s22 = s.view((ns, ns), (nu, nu)).into_owned();
     let qc2 = qc.rows(ns, nu).into_owned();
     let m2 = -solve_left(s22, &qc2).ok_or_else(|| {
