@@ -383,3 +383,22 @@ fn a_parameter_outside_a_domain_is_blamed_not_the_guess() {
         other => panic!("{other:?}"),
     }
 }
+
+#[test]
+fn newton_params_bound_the_iterations() {
+    let m = growth_model();
+    let c = CompiledModel::new(&m);
+    let params: Vec<f64> = m.parameters.iter().map(|p| p.value).collect();
+    let free = solve_steady(&m, &c, &params).unwrap();
+    assert!(free.iterations > 1, "{free:?}");
+    // One iteration cannot reach the nonlinear steady state from the default guesses.
+    let tight = NewtonParams::default().with_max_iterations(1);
+    match solve_steady_with(&m, &c, &params, &tight) {
+        Err(SteadyError::NotFound { iterations: 1, .. }) => {}
+        other => panic!("expected NotFound after 1 iteration, got {other:?}"),
+    }
+    // A generous limit gives the same answer as the default.
+    let loose = NewtonParams::default().with_max_iterations(2 * MAX_NEWTON_ITERATIONS);
+    let again = solve_steady_with(&m, &c, &params, &loose).unwrap();
+    assert_eq!(again.values, free.values);
+}
