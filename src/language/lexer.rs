@@ -703,7 +703,7 @@ impl<'a> Lexer<'a> {
                     if self.brackets.len() >= MAX_BRACKET_DEPTH {
                         self.diagnostics.push(
                             Diagnostic::error(
-                                "too-deep",
+                                "brackets-too-deep",
                                 format!("brackets nested more than {MAX_BRACKET_DEPTH} deep"),
                                 span,
                                 "too deep here",

@@ -31,7 +31,7 @@ impl<'a> Checker<'a> {
             }
             None => {
                 let mut d = Diagnostic::error(
-                    "unknown-name",
+                    "unknown-innovation",
                     format!("unknown innovation `{}`", name.text),
                     name.span,
                     "not declared",

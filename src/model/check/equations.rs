@@ -31,7 +31,7 @@ impl<'a> Checker<'a> {
             if let Some(l) = &q.label {
                 if let Some(first) = seen.get(l.text) {
                     let d = Diagnostic::error(
-                        "duplicate",
+                        "duplicate-label",
                         format!("equation label `{}` is used twice", l.text),
                         l.span,
                         "used again here",

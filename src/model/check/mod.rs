@@ -267,7 +267,7 @@ impl<'a> Checker<'a> {
                         if let Some((_, first)) = self.title {
                             self.error(
                                 Diagnostic::error(
-                                    "duplicate",
+                                    "duplicate-title",
                                     "the title is given twice",
                                     *keyword,
                                     "second title",
@@ -348,7 +348,7 @@ impl<'a> Checker<'a> {
                     )
                 };
                 self.error(
-                    Diagnostic::error("duplicate", message, name.span, "declared again here")
+                    Diagnostic::error("duplicate-name", message, name.span, "declared again here")
                         .with_label(first_span, "first declared here")
                         .with_help("each name is declared once; rename or remove one of them"),
                 );

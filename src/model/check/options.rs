@@ -32,7 +32,7 @@ impl<'a> Checker<'a> {
             }
             if let Some(first) = seen.get(name) {
                 let d = Diagnostic::error(
-                    "duplicate",
+                    "duplicate-option",
                     format!("option `{name}` is given twice"),
                     o.name.span,
                     "given again here",
@@ -50,7 +50,7 @@ impl<'a> Checker<'a> {
                     } if value <= MAX_HORIZON as f64 => options.horizon = Some(value as u32),
                     _ => self.error(
                         Diagnostic::error(
-                            "bad-option",
+                            "bad-horizon",
                             format!(
                                 "option `horizon` must be a whole number of periods from 0 to {MAX_HORIZON}"
                             ),

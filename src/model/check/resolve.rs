@@ -165,7 +165,7 @@ impl<'a> Checker<'a> {
                         self.reported_no_value[i] = true;
                         self.error(
                             Diagnostic::error(
-                                "no-value",
+                                "no-value-at-use",
                                 format!("parameter `{name}` is used but never given a value"),
                                 span,
                                 "used here",

@@ -63,7 +63,7 @@ impl<'a> Checker<'a> {
             if let Some(h) = self.objective_header {
                 self.error(
                     Diagnostic::error(
-                        "objective-no-loss",
+                        "objective-empty",
                         "the objective section has no `loss = ...`",
                         h,
                         "empty objective",
@@ -97,7 +97,7 @@ impl<'a> Checker<'a> {
                         let first = *first;
                         self.error(
                             Diagnostic::error(
-                                "duplicate",
+                                "duplicate-objective-item",
                                 format!("the objective gives `{word}` twice"),
                                 *span,
                                 "given again here",
@@ -157,7 +157,7 @@ impl<'a> Checker<'a> {
                             ok = false;
                             self.error(
                                 Diagnostic::error(
-                                    "syntax",
+                                    "expected-replaces",
                                     format!("expected `replaces`, found name `{}`", word.text),
                                     word.span,
                                     "expected `replaces` here",
@@ -180,7 +180,7 @@ impl<'a> Checker<'a> {
                     if let Some(first) = controlled.get(&var) {
                         self.error(
                             Diagnostic::error(
-                                "duplicate",
+                                "duplicate-control",
                                 format!("`{}` is declared a control twice", variable.text),
                                 *span,
                                 "declared again here",
@@ -194,7 +194,7 @@ impl<'a> Checker<'a> {
                         if let Some(first) = replaced.get(&eq) {
                             self.error(
                                 Diagnostic::error(
-                                    "duplicate",
+                                    "duplicate-replaced-equation",
                                     "two controls replace the same equation",
                                     *span,
                                     "replaced again here",
@@ -310,7 +310,7 @@ impl<'a> Checker<'a> {
             }
             None => {
                 let mut d = Diagnostic::error(
-                    "unknown-name",
+                    "unknown-control",
                     format!("unknown variable `{}`", name.text),
                     name.span,
                     "not declared",
@@ -381,7 +381,7 @@ impl<'a> Checker<'a> {
             if let Some((_, first)) = seen.iter().find(|(t, _)| *t == target) {
                 self.error(
                     Diagnostic::error(
-                        "duplicate",
+                        "duplicate-prior",
                         "two priors for the same quantity",
                         p.span,
                         "given again here",
@@ -530,7 +530,7 @@ impl<'a> Checker<'a> {
                 }
                 None => {
                     let mut d = Diagnostic::error(
-                        "unknown-name",
+                        "unknown-prior-parameter",
                         format!("unknown parameter `{}`", n.text),
                         n.span,
                         "not declared",
@@ -571,7 +571,7 @@ impl<'a> Checker<'a> {
                     Some((sym, decl)) => {
                         self.error(
                             Diagnostic::error(
-                                "prior-target",
+                                "prior-sd-target",
                                 format!(
                                     "`{}` is {}; `sd(...)` names an innovation or an observable",
                                     name.text,
@@ -586,7 +586,7 @@ impl<'a> Checker<'a> {
                     }
                     None => {
                         let mut d = Diagnostic::error(
-                            "unknown-name",
+                            "unknown-prior-innovation",
                             format!("unknown innovation `{}`", name.text),
                             name.span,
                             "not declared",
@@ -632,7 +632,7 @@ impl<'a> Checker<'a> {
                 let first = *first;
                 self.error(
                     Diagnostic::error(
-                        "duplicate",
+                        "duplicate-argument",
                         format!("argument `{}` is given twice", a.name.text),
                         arg_span,
                         "given again here",
@@ -726,7 +726,7 @@ impl<'a> Checker<'a> {
         if t.word.text != "in" {
             self.error(
                 Diagnostic::error(
-                    "syntax",
+                    "expected-in",
                     format!("expected `in`, found name `{}`", t.word.text),
                     t.word.span,
                     "expected `in` here",

@@ -38,7 +38,7 @@ impl<'a> Checker<'a> {
                 }
                 None => {
                     let mut d = Diagnostic::error(
-                        "unknown-name",
+                        "unknown-steady-name",
                         format!("unknown name `{}`", s.name.text),
                         s.name.span,
                         "not declared",
@@ -68,7 +68,7 @@ impl<'a> Checker<'a> {
                 let first_span = item_decl[first].span;
                 self.error(
                     Diagnostic::error(
-                        "duplicate",
+                        "duplicate-steady",
                         format!(
                             "the steady section gives {} `{}` twice",
                             if kind == SteadyKind::Guess {
@@ -100,7 +100,7 @@ impl<'a> Checker<'a> {
                 let (first, second) = (a.min(b), a.max(b));
                 self.error(
                     Diagnostic::error(
-                        "duplicate",
+                        "value-and-guess",
                         format!(
                             "the steady section gives both a value of and a guess for `{}`",
                             self.endogenous[v].name.text
@@ -199,7 +199,7 @@ impl<'a> Checker<'a> {
                 let decl = item_decl[k];
                 self.error(
                     Diagnostic::error(
-                        "not-finite",
+                        "steady-not-finite",
                         format!(
                             "the steady {} `{}` is {} at the calibration",
                             if items[k].kind == SteadyKind::Guess {
