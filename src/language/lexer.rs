@@ -818,7 +818,7 @@ mod tests {
         let mut lx = Lexer::new(&src);
         let n = lx.by_ref().count();
         assert!(n < 1000);
-        assert_eq!(lx.diagnostics[0].code, "too-deep");
+        assert_eq!(lx.diagnostics[0].code, "brackets-too-deep");
     }
 
     #[test]
