@@ -389,42 +389,33 @@ struct Core {
     method: LyapunovMethod,
 }
 
-/// The relative residual ||Y - T Y T' - C||_F / (||C||_F + ||T||_F^2 ||Y||_F) (0 if all zero).
-fn stein_residual_real(t: &DMatrix<f64>, y: &DMatrix<f64>, c: &DMatrix<f64>) -> f64 {
-    let r = y - t * y * t.transpose() - c;
-    let denom = c.norm() + t.norm().powi(2) * y.norm();
-    if denom == 0.0 {
-        0.0
-    } else {
-        r.norm() / denom
-    }
-}
-
-/// Every mode stable: real Schur basis G = U T U', per-innovation Y_j = T Y_j T' + b_j b_j'
-/// with b_j = U' H l_j, Var_j(y_i) = (P U Y_j U' P')_ii + (Q l_j)_i^2; autocovariances from
-/// S_1 = T Y U'P' + (U'H L) L'Q', S_k = T S_{k-1}, diag(P U S_k). Reads only. Returns the core,
-/// or `Ok(Err(residual))` when the residual of the summed solve exceeds `tol` (the caller falls
-/// back to doubling).
-fn core_stationary(
+/// Every mode stable, in an orthogonal basis s = U w with w_t = T w_{t-1} + U'H e_t (T = U'G U):
+/// per innovation Y_j = T Y_j T' + b_j b_j' with b_j = U'H l_j, solved by `solve(T, C)`;
+/// Var_j(y_i) = (P U Y_j U' P')_ii + (Q l_j)_i^2; the sum Y is checked by [`relative_residual`];
+/// autocovariances from S_1 = T Y U'P' + (U'H L) L'Q', S_k = T S_{k-1}, diag(P U S_k). Reads
+/// only. Returns the core, or `Ok(Err(residual))` when the residual exceeds `tol`.
+#[allow(clippy::too_many_arguments)]
+fn core_in_basis(
     ss: &StateSpace,
     sigma: &DMatrix<f64>,
     l: &DMatrix<f64>,
-    schur: &RealSchur,
+    (u, t): (&DMatrix<f64>, &DMatrix<f64>),
     lags: usize,
     tol: f64,
+    method: LyapunovMethod,
+    mut solve: impl FnMut(&DMatrix<f64>, &DMatrix<f64>) -> Result<DMatrix<f64>, MomentsError>,
 ) -> Result<Result<Core, f64>, MomentsError> {
     let ny = ss.p.nrows();
     let ne = l.ncols();
     let ns = ss.g.nrows();
-    let pu = &ss.p * &schur.q; // ny x ns
-    let uhl = schur.q.transpose() * (&ss.h * l); // ns x ne
+    let pu = &ss.p * u; // ny x ns
+    let uhl = u.transpose() * (&ss.h * l); // ns x ne
     let ql = &ss.q * l;
     let mut part = DMatrix::<f64>::zeros(ny, ne);
     let mut y_total = DMatrix::<f64>::zeros(ns, ns);
     for j in 0..ne {
         let b = uhl.column(j);
-        let c = b * b.transpose();
-        let yj = solve_quasi_triangular_stein(&schur.t, &schur.blocks, &c)?;
+        let yj = solve(t, &(b * b.transpose()))?;
         let py = &pu * &yj;
         for i in 0..ny {
             let s = py.row(i).dot(&pu.row(i));
@@ -433,8 +424,7 @@ fn core_stationary(
         y_total += yj;
     }
     let y_total = (&y_total + y_total.transpose()) * 0.5;
-    let c_total = &uhl * uhl.transpose();
-    let residual = stein_residual_real(&schur.t, &y_total, &c_total);
+    let residual = relative_residual(t, &(&uhl * uhl.transpose()), &y_total);
     if !(residual <= tol) {
         return Ok(Err(residual));
     }
@@ -442,13 +432,12 @@ fn core_stationary(
     let var_full = (&v + v.transpose()) * 0.5;
     let mut autocov = vec![Vec::with_capacity(lags); ny];
     if lags > 0 {
-        let mut s =
-            &schur.t * (&y_total * pu.transpose()) + &uhl * (l.transpose() * ss.q.transpose());
+        let mut s = t * (&y_total * pu.transpose()) + &uhl * (l.transpose() * ss.q.transpose());
         for _ in 1..=lags {
             for (i, a) in autocov.iter_mut().enumerate() {
                 a.push(pu.row(i).dot(&s.column(i).transpose()));
             }
-            s = &schur.t * &s;
+            s = t * &s;
         }
     }
     Ok(Ok(Core {
@@ -458,15 +447,35 @@ fn core_stationary(
         autocov,
         residual,
         warnings: Vec::new(),
-        method: LyapunovMethod::Schur,
+        method,
     }))
 }
 
-/// The doubling fallback of [`moments_with`] in the original basis: per innovation
-/// X_j = G X_j G' + H l_j l_j' H' by doubling, Var_j(y_i) = (P X_j P')_ii + (Q l_j)_i^2; the sum
-/// X is checked by [`relative_residual`] against `params.residual_tol`; autocovariances from
-/// S_1 = G X P' + H L L'Q', S_k = G S_{k-1}, diag(P S_k). Reads only; returns the core, or
-/// [`LyapunovError::NoConvergence`] with both residuals.
+/// [`core_in_basis`] in the real Schur basis G = U T U', each Y_j by the quasi-triangular solve.
+fn core_stationary(
+    ss: &StateSpace,
+    sigma: &DMatrix<f64>,
+    l: &DMatrix<f64>,
+    schur: &RealSchur,
+    lags: usize,
+    tol: f64,
+) -> Result<Result<Core, f64>, MomentsError> {
+    let basis = (&schur.q, &schur.t);
+    core_in_basis(
+        ss,
+        sigma,
+        l,
+        basis,
+        lags,
+        tol,
+        LyapunovMethod::Schur,
+        |t, c| Ok(solve_quasi_triangular_stein(t, &schur.blocks, c)?),
+    )
+}
+
+/// The doubling fallback of [`moments_with`]: [`core_in_basis`] in the original basis (U = I,
+/// T = G), each Y_j by doubling. Returns the core, or [`LyapunovError::NoConvergence`] with the
+/// Schur route's residual (infinite when it produced none) and doubling's.
 fn core_doubling(
     ss: &StateSpace,
     sigma: &DMatrix<f64>,
@@ -475,55 +484,31 @@ fn core_doubling(
     params: &LyapunovParams,
     schur_residual: f64,
 ) -> Result<Core, MomentsError> {
-    let ny = ss.p.nrows();
-    let ne = l.ncols();
-    let ns = ss.g.nrows();
-    let hl = &ss.h * l;
-    let ql = &ss.q * l;
-    let mut part = DMatrix::<f64>::zeros(ny, ne);
-    let mut x_total = DMatrix::<f64>::zeros(ns, ns);
+    let identity = DMatrix::<f64>::identity(ss.g.nrows(), ss.g.nrows());
     let mut steps = 0;
-    for j in 0..ne {
-        let b = hl.column(j);
-        let (xj, taken) = doubling(&ss.g, &(b * b.transpose()), params.max_doubling_steps);
-        steps = steps.max(taken);
-        let px = &ss.p * &xj;
-        for i in 0..ny {
-            let s = px.row(i).dot(&ss.p.row(i));
-            part[(i, j)] = s.max(0.0) + ql[(i, j)] * ql[(i, j)];
-        }
-        x_total += xj;
-    }
-    let x_total = (&x_total + x_total.transpose()) * 0.5;
-    let residual = relative_residual(&ss.g, &(&hl * hl.transpose()), &x_total);
-    if !(residual <= params.residual_tol) {
-        return Err(MomentsError::Lyapunov(LyapunovError::NoConvergence {
+    let basis = (&identity, &ss.g);
+    let tol = params.residual_tol;
+    let core = core_in_basis(
+        ss,
+        sigma,
+        l,
+        basis,
+        lags,
+        tol,
+        LyapunovMethod::Doubling,
+        |g, c| {
+            let (x, taken) = doubling(g, c, params.max_doubling_steps);
+            steps = steps.max(taken);
+            Ok(x)
+        },
+    )?;
+    core.map_err(|doubling_residual| {
+        MomentsError::Lyapunov(LyapunovError::NoConvergence {
             schur_residual,
-            doubling_residual: residual,
+            doubling_residual,
             steps,
-            tolerance: params.residual_tol,
-        }));
-    }
-    let v = &ss.p * &x_total * ss.p.transpose() + &ss.q * sigma * ss.q.transpose();
-    let var_full = (&v + v.transpose()) * 0.5;
-    let mut autocov = vec![Vec::with_capacity(lags); ny];
-    if lags > 0 {
-        let mut s = &ss.g * (&x_total * ss.p.transpose()) + &hl * ql.transpose();
-        for _ in 1..=lags {
-            for (i, a) in autocov.iter_mut().enumerate() {
-                a.push(ss.p.row(i).dot(&s.column(i).transpose()));
-            }
-            s = &ss.g * &s;
-        }
-    }
-    Ok(Core {
-        stationary: vec![true; ny],
-        part,
-        var_full,
-        autocov,
-        residual,
-        warnings: Vec::new(),
-        method: LyapunovMethod::Doubling,
+            tolerance: tol,
+        })
     })
 }
 

@@ -35,29 +35,9 @@ impl ComplexSchur {
     /// dimension).
     pub fn with_sweeps(g: &DMatrix<f64>, sweeps_per_dim: usize) -> Result<Self, LyapunovError> {
         let n = g.nrows();
-        if g.ncols() != n {
-            return Err(LyapunovError::Shape {
-                g_rows: n,
-                g_cols: g.ncols(),
-                w_rows: n,
-                w_cols: n,
-            });
-        }
-        if n > MAX_DIMENSION {
-            return Err(LyapunovError::TooLarge { n });
-        }
-        if g.iter().any(|v| !v.is_finite()) {
-            return Err(LyapunovError::NonFinite);
-        }
         // Real Schur form first (a real QR iteration is about four times cheaper than a complex
         // one), then each 2 x 2 block of a complex pair is triangularized by one unitary rotation.
-        let schur =
-            nalgebra::Schur::try_new(g.clone(), SCHUR_EPS, sweeps_per_dim.max(1) * n.max(1))
-                .ok_or(LyapunovError::SchurNoConvergence)?;
-        let (q, tr) = schur.unpack();
-        if q.iter().chain(tr.iter()).any(|v| !v.is_finite()) {
-            return Err(LyapunovError::SchurNoConvergence);
-        }
+        let (q, tr) = francis_qr(g, sweeps_per_dim)?;
         let scale = tr.norm().max(f64::MIN_POSITIVE);
         let negligible = 1e3 * SCHUR_EPS * scale;
         let mut t = tr.map(|v| C64::new(v, 0.0));
@@ -168,30 +148,10 @@ impl RealSchur {
     }
 
     /// As [`Self::new`], with at most `sweeps_per_dim * n` QR sweeps (at least one per
-    /// dimension; nalgebra reads a budget of zero as unlimited, which is never passed).
+    /// dimension).
     pub fn with_sweeps(g: &DMatrix<f64>, sweeps_per_dim: usize) -> Result<Self, LyapunovError> {
         let n = g.nrows();
-        if g.ncols() != n {
-            return Err(LyapunovError::Shape {
-                g_rows: n,
-                g_cols: g.ncols(),
-                w_rows: n,
-                w_cols: n,
-            });
-        }
-        if n > MAX_DIMENSION {
-            return Err(LyapunovError::TooLarge { n });
-        }
-        if g.iter().any(|v| !v.is_finite()) {
-            return Err(LyapunovError::NonFinite);
-        }
-        let schur =
-            nalgebra::Schur::try_new(g.clone(), SCHUR_EPS, sweeps_per_dim.max(1) * n.max(1))
-                .ok_or(LyapunovError::SchurNoConvergence)?;
-        let (q, mut t) = schur.unpack();
-        if q.iter().chain(t.iter()).any(|v| !v.is_finite()) {
-            return Err(LyapunovError::SchurNoConvergence);
-        }
+        let (q, mut t) = francis_qr(g, sweeps_per_dim)?;
         let negligible = 1e3 * SCHUR_EPS * t.norm().max(f64::MIN_POSITIVE);
         for j in 0..n {
             for i in (j + 2)..n {
@@ -250,6 +210,39 @@ impl RealSchur {
             .map(|z| z.norm())
             .fold(0.0, f64::max)
     }
+}
+
+/// The raw real Schur factors (Q, T) of the square `g` (read only) by nalgebra's Francis QR
+/// iteration with at most `sweeps_per_dim * n` sweeps (at least one per dimension; nalgebra
+/// reads a budget of zero as unlimited, which is never passed). Errors: `Shape`, `TooLarge`,
+/// `NonFinite` on the input; `SchurNoConvergence` when the budget runs out or a factor is not
+/// finite. T is not cleaned below the subdiagonal.
+fn francis_qr(
+    g: &DMatrix<f64>,
+    sweeps_per_dim: usize,
+) -> Result<(DMatrix<f64>, DMatrix<f64>), LyapunovError> {
+    let n = g.nrows();
+    if g.ncols() != n {
+        return Err(LyapunovError::Shape {
+            g_rows: n,
+            g_cols: g.ncols(),
+            w_rows: n,
+            w_cols: n,
+        });
+    }
+    if n > MAX_DIMENSION {
+        return Err(LyapunovError::TooLarge { n });
+    }
+    if g.iter().any(|v| !v.is_finite()) {
+        return Err(LyapunovError::NonFinite);
+    }
+    let schur = nalgebra::Schur::try_new(g.clone(), SCHUR_EPS, sweeps_per_dim.max(1) * n.max(1))
+        .ok_or(LyapunovError::SchurNoConvergence)?;
+    let (q, t) = schur.unpack();
+    if q.iter().chain(t.iter()).any(|v| !v.is_finite()) {
+        return Err(LyapunovError::SchurNoConvergence);
+    }
+    Ok((q, t))
 }
 
 /// Triangularizes the 2 x 2 diagonal block of `t` at rows and columns k, k+1: with lambda an
