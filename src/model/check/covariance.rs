@@ -7,6 +7,24 @@
 use super::*;
 
 impl<'a> Checker<'a> {
+    /// Reports `name` as an unknown innovation, with a did-you-mean among innovations and
+    /// observables, else `fallback_help` if given.
+    pub(super) fn unknown_innovation(&mut self, name: &ast::Name<'a>, fallback_help: Option<&str>) {
+        let mut d = Diagnostic::error(
+            "unknown-innovation",
+            format!("unknown innovation `{}`", name.text),
+            name.span,
+            "not declared",
+        );
+        let suggestion = self.suggest(name.text, |s| {
+            matches!(s, Symbol::Exogenous(_) | Symbol::Observable(_))
+        });
+        if let Some(h) = suggestion.or(fallback_help.map(str::to_string)) {
+            d = d.with_help(h);
+        }
+        self.error(d);
+    }
+
     /// Resolves a name in a covariance item: an innovation or an observable (its measurement
     /// error); anything else is reported.
     pub(super) fn shock(&mut self, name: &ast::Name<'a>) -> Option<Scale> {
@@ -30,23 +48,13 @@ impl<'a> Checker<'a> {
                 None
             }
             None => {
-                let mut d = Diagnostic::error(
-                    "unknown-innovation",
-                    format!("unknown innovation `{}`", name.text),
-                    name.span,
-                    "not declared",
-                );
-                if let Some(h) = self.suggest(name.text, |s| {
-                    matches!(s, Symbol::Exogenous(_) | Symbol::Observable(_))
-                }) {
-                    d = d.with_help(h);
-                } else {
-                    d = d.with_help(
+                self.unknown_innovation(
+                    name,
+                    Some(
                         "declare it in the exogenous section (or in observables for a \
                          measurement error)",
-                    );
-                }
-                self.error(d);
+                    ),
+                );
                 None
             }
         }

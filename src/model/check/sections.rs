@@ -585,18 +585,7 @@ impl<'a> Checker<'a> {
                         None
                     }
                     None => {
-                        let mut d = Diagnostic::error(
-                            "unknown-prior-innovation",
-                            format!("unknown innovation `{}`", name.text),
-                            name.span,
-                            "not declared",
-                        );
-                        if let Some(h) = self.suggest(name.text, |s| {
-                            matches!(s, Symbol::Exogenous(_) | Symbol::Observable(_))
-                        }) {
-                            d = d.with_help(h);
-                        }
-                        self.error(d);
+                        self.unknown_innovation(name, None);
                         None
                     }
                 }
