@@ -90,7 +90,7 @@ pub enum MomentsError {
     #[error("the model has no unique stable solution (status {status}); moments need one")]
     NotDeterminate { status: &'static str },
     #[error("the solution matrices have inconsistent sizes: {0}")]
-    Shape(String),
+    Shape(Shapes),
     #[error("the solution matrices have a non-finite entry")]
     NonFinite,
     #[error(transparent)]
@@ -105,6 +105,35 @@ pub enum MomentsError {
     TooManyLags(usize),
     #[error("forecast-error horizons must be between 1 and {MAX_HORIZON}, got {0}")]
     BadHorizon(usize),
+}
+
+/// The sizes of a solution's lists and matrices (rows, columns), as found when they disagree.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub struct Shapes {
+    pub variables: usize,
+    pub innovations: usize,
+    pub p: (usize, usize),
+    pub q: (usize, usize),
+    pub g: (usize, usize),
+    pub h: (usize, usize),
+    pub covariance: (usize, usize),
+}
+
+impl std::fmt::Display for Shapes {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        let m = |(r, c): (usize, usize)| format!("{r}x{c}");
+        write!(
+            f,
+            "{} variables, {} innovations, P {}, Q {}, G {}, H {}, covariance {}",
+            self.variables,
+            self.innovations,
+            m(self.p),
+            m(self.q),
+            m(self.g),
+            m(self.h),
+            m(self.covariance)
+        )
+    }
 }
 
 /// Everything `saddle moments` reports. Deviations are log deviations for `log` variables.
@@ -186,19 +215,15 @@ pub fn check_shapes(solved: &SolvedModel, ss: &StateSpace) -> Result<(), Moments
         && solved.covariance.nrows() == ne
         && solved.covariance.ncols() == ne;
     if !ok {
-        return Err(MomentsError::Shape(format!(
-            "{ny} variables, {ne} innovations, P {}x{}, Q {}x{}, G {}x{}, H {}x{}, covariance {}x{}",
-            ss.p.nrows(),
-            ss.p.ncols(),
-            ss.q.nrows(),
-            ss.q.ncols(),
-            ss.g.nrows(),
-            ss.g.ncols(),
-            ss.h.nrows(),
-            ss.h.ncols(),
-            solved.covariance.nrows(),
-            solved.covariance.ncols()
-        )));
+        return Err(MomentsError::Shape(Shapes {
+            variables: ny,
+            innovations: ne,
+            p: ss.p.shape(),
+            q: ss.q.shape(),
+            g: ss.g.shape(),
+            h: ss.h.shape(),
+            covariance: solved.covariance.shape(),
+        }));
     }
     if [&ss.p, &ss.q, &ss.g, &ss.h]
         .iter()

@@ -164,7 +164,21 @@ pub enum SolveError {
     #[error("the QZ decomposition failed: {0}")]
     Qz(QzError),
     #[error("the solution could not be computed: {0}")]
-    Numerical(String),
+    Numerical(NumericalFailure),
+}
+
+/// Which step of the decision-rule formulas failed (module doc).
+#[derive(Debug, Clone, Copy, PartialEq, Eq, thiserror::Error)]
+pub enum NumericalFailure {
+    #[error("the unstable block of the Schur form is singular")]
+    UnstableBlockSingular,
+    #[error("the stable block of T is singular")]
+    StableBlockSingular,
+    #[error("the static block is singular")]
+    StaticBlockSingular,
+    /// `variable` (0-based, declaration order) has no place in the canonical form.
+    #[error("variable #{} has no place in the canonical form", .variable + 1)]
+    Unplaced { variable: usize },
 }
 
 /// Everything about a model's structure that solving needs, computed once.
@@ -373,9 +387,9 @@ impl PreparedModel {
                 super::threshold::show(tau),
                 if r.stable { "stable" } else { "unstable" },
                 if boundary_stable {
-                    "use --boundary-unstable to count it the other way"
+                    "roots on the boundary count as stable by default"
                 } else {
-                    "as asked by --boundary-unstable"
+                    "roots on the boundary are counted as unstable, as asked"
                 }
             ));
         }
@@ -704,9 +718,9 @@ fn decision_rule(
     let qc = cmul(&q.adjoint(), &to_complex(&pencil.c));
     let s22 = s.view((ns, ns), (nu, nu)).into_owned();
     let qc2 = qc.rows(ns, nu).into_owned();
-    let m2 = -solve_left(s22, &qc2).ok_or_else(|| {
-        SolveError::Numerical("the unstable block of the Schur form is singular".into())
-    })?;
+    let m2 = -solve_left(s22, &qc2).ok_or(SolveError::Numerical(
+        NumericalFailure::UnstableBlockSingular,
+    ))?;
     let zk1 = z.view((0, 0), (nk, ns)).into_owned();
     let zk2 = z.view((0, ns), (nk, nu)).into_owned();
     let zx1 = z.view((nk, 0), (nx, ns)).into_owned();
@@ -743,9 +757,9 @@ fn decision_rule(
     let inner_k = cmul(&s11, &w);
     let inner_e = cmul(&s12, &m2) + qc1 - cmul(&s11, &wzm);
     let tk = solve_left(t11.clone(), &inner_k)
-        .ok_or_else(|| SolveError::Numerical("the stable block of T is singular".into()))?;
+        .ok_or(SolveError::Numerical(NumericalFailure::StableBlockSingular))?;
     let te = solve_left(t11, &inner_e)
-        .ok_or_else(|| SolveError::Numerical("the stable block of T is singular".into()))?;
+        .ok_or(SolveError::Numerical(NumericalFailure::StableBlockSingular))?;
     let gk = cmul(&zk1, &tk);
     let hk = cmul(&zk1, &te);
     let (n, i1) = real_part(&n);
@@ -813,7 +827,7 @@ fn state_space(
             st.r.clone()
                 .lu()
                 .solve(&(-rhs))
-                .ok_or_else(|| SolveError::Numerical("the static block is singular".into()))?;
+                .ok_or(SolveError::Numerical(NumericalFailure::StaticBlockSingular))?;
         for (c, &j) in st.variables.iter().enumerate() {
             p.row_mut(j).copy_from(&ys.view((c, 0), (1, nk)));
             qm.row_mut(j).copy_from(&ys.view((c, nk), (1, ne)));
@@ -821,10 +835,9 @@ fn state_space(
         }
     }
     if let Some(j) = done.iter().position(|d| !d) {
-        return Err(SolveError::Numerical(format!(
-            "variable #{} has no place in the canonical form",
-            j + 1
-        )));
+        return Err(SolveError::Numerical(NumericalFailure::Unplaced {
+            variable: j,
+        }));
     }
     let mut g = gk.clone();
     let mut h = hk.clone();
