@@ -29,7 +29,12 @@ pub(super) fn explain_failure(
     first: SteadyError,
     np: &NewtonParams,
 ) -> Result<SteadyState, SteadyError> {
-    if matches!(first, SteadyError::Cycle { .. } | SteadyError::BadValue(_)) {
+    if matches!(
+        first,
+        SteadyError::Cycle { .. }
+            | SteadyError::NotFiniteValue { .. }
+            | SteadyError::LogStartNotPositive { .. }
+    ) {
         return Err(first);
     }
     let n = model.endogenous.len();
@@ -63,7 +68,7 @@ pub(super) fn explain_failure(
                 sol.relative_residual = rel;
                 return Ok(sol);
             }
-            let differ: Vec<String> = known
+            let differ: Vec<ValueConflict> = known
                 .iter()
                 .enumerate()
                 .filter_map(|(j, k)| k.map(|k| (j, k)))
@@ -72,22 +77,19 @@ pub(super) fn explain_failure(
                     (v - k).abs() > 1e-6 * v.abs().max(k.abs())
                 })
                 .take(REPORT_EQUATIONS)
-                .map(|(j, k)| {
-                    format!(
-                        "the equations put {} at {} where `steady` gives {}",
-                        model.endogenous[j].name,
-                        short(sol.values[j]),
-                        short(k)
-                    )
+                .map(|(j, k)| ValueConflict {
+                    variable: model.endogenous[j].name.clone(),
+                    solved: sol.values[j],
+                    given: k,
                 })
                 .collect();
             if !differ.is_empty() {
                 let at_values =
                     residual_report(model, compiled, &r, &term_scales(model, params, &exact));
-                return Err(SteadyError::KnownValuesInconsistent(format!(
-                    "{at_values}; {}",
-                    differ.join("; ")
-                )));
+                return Err(SteadyError::KnownValuesInconsistent {
+                    worst: at_values,
+                    detail: KnownValuesDetail::Differ(differ),
+                });
             }
         }
     }
@@ -193,21 +195,19 @@ pub(super) fn trending_equation(
     None
 }
 
-pub(super) fn describe_point(model: &Model, vars: &[usize], x: &[f64]) -> String {
-    let parts: Vec<String> = vars
-        .iter()
-        .take(8)
-        .map(|&j| format!("{} = {}", model.endogenous[j].name, short(x[j])))
-        .collect();
-    let more = if vars.len() > 8 { ", ..." } else { "" };
-    format!("{}{more}", parts.join(", "))
-}
-
-pub(super) fn short(v: f64) -> String {
-    format!("{v:.6}")
-        .trim_end_matches('0')
-        .trim_end_matches('.')
-        .to_string()
+/// The first eight of the variables `vars` at `x`.
+pub(super) fn describe_point(model: &Model, vars: &[usize], x: &[f64]) -> Point {
+    Point {
+        shown: vars
+            .iter()
+            .take(8)
+            .map(|&j| VariableValue {
+                name: model.endogenous[j].name.clone(),
+                value: x[j],
+            })
+            .collect(),
+        more: vars.len() > 8,
+    }
 }
 
 /// The equations with the largest residuals relative to their terms (`scales`, from
@@ -217,7 +217,7 @@ pub(super) fn residual_report(
     compiled: &CompiledModel,
     r: &[f64],
     scales: &[f64],
-) -> String {
+) -> ResidualReport {
     let rel = |i: usize| relative_residual(&[r[i]], &[scales.get(i).copied().unwrap_or(f64::NAN)]);
     let mut order: Vec<usize> = (0..r.len()).collect();
     order.sort_by(|&a, &b| {
@@ -225,29 +225,22 @@ pub(super) fn residual_report(
             .partial_cmp(&rel(a))
             .unwrap_or(std::cmp::Ordering::Equal)
     });
-    let parts: Vec<String> = order
-        .iter()
-        .take(REPORT_EQUATIONS)
-        .filter(|&&i| r[i] != 0.0)
-        .map(|&i| {
-            let vars: Vec<&str> = compiled.variables_in[i]
-                .iter()
-                .map(|&j| model.endogenous[j].name.as_str())
-                .collect();
-            format!(
-                "{} (residual {:.3e}, {:.1e} of the size of its terms; involves {})",
-                model.equation_name(i),
-                r[i],
-                rel(i),
-                if vars.is_empty() {
-                    "no variable".to_string()
-                } else {
-                    vars.join(", ")
-                }
-            )
-        })
-        .collect();
-    parts.join("; ")
+    ResidualReport(
+        order
+            .iter()
+            .take(REPORT_EQUATIONS)
+            .filter(|&&i| r[i] != 0.0)
+            .map(|&i| WorstEquation {
+                equation: model.equation_name(i),
+                residual: r[i],
+                relative: rel(i),
+                variables: compiled.variables_in[i]
+                    .iter()
+                    .map(|&j| model.endogenous[j].name.clone())
+                    .collect(),
+            })
+            .collect(),
+    )
 }
 
 /// Names the variables a singular Jacobian leaves undetermined (the largest entries of its null
@@ -257,8 +250,8 @@ pub(super) fn singular_report(
     unknown: &[usize],
     jac: &DMatrix<f64>,
     x: &[f64],
-) -> String {
-    let mut involved = String::new();
+) -> SingularReport {
+    let mut undetermined = Vec::new();
     if jac.ncols() <= 400 && jac.nrows() >= jac.ncols() {
         let svd = jac.clone().svd(false, true);
         if let Some(vt) = svd.v_t {
@@ -274,29 +267,24 @@ pub(super) fn singular_report(
                     .unwrap_or(std::cmp::Ordering::Equal)
             });
             let big = row.iter().fold(0.0f64, |a, v| a.max(v.abs()));
-            let names: Vec<&str> = idx
+            undetermined = idx
                 .iter()
                 .take(4)
                 .filter(|&&c| row[c].abs() >= 0.1 * big)
-                .map(|&c| model.endogenous[unknown[c]].name.as_str())
+                .map(|&c| model.endogenous[unknown[c]].name.clone())
                 .collect();
-            if !names.is_empty() {
-                involved = format!(
-                    "; the equations do not pin down {} (they can move together without changing any residual)",
-                    names.join(", ")
-                );
-            }
         }
     }
-    format!(
-        "the Jacobian of the steady-state equations is singular at {}{involved}. Give these variables `steady` values, a different `guess`, or check for an equation that repeats another",
-        describe_point(model, unknown, x)
-    )
+    SingularReport {
+        at: describe_point(model, unknown, x),
+        undetermined,
+        during: None,
+    }
 }
 
 /// Finds, in each equation with a non-finite residual, the innermost operation whose arguments are
 /// finite but whose value is not, and says what it was.
-pub(super) fn domain_report(model: &Model, params: &[f64], x: &[f64], r: &[f64]) -> String {
+pub(super) fn domain_report(model: &Model, params: &[f64], x: &[f64], r: &[f64]) -> DomainReport {
     let leaves = SteadyLeaves { params, values: x };
     let mut parts = Vec::new();
     for (i, eq) in model.equations.iter().enumerate() {
@@ -306,30 +294,30 @@ pub(super) fn domain_report(model: &Model, params: &[f64], x: &[f64], r: &[f64])
         let what = first_bad(&eq.lhs, &leaves, 0)
             .or_else(|| first_bad(&eq.rhs, &leaves, 0))
             .unwrap_or_else(|| "a value that is not finite".to_string());
-        let vars: Vec<String> = {
+        let at: Vec<VariableValue> = {
             let mut v = steady_refs(&eq.lhs);
             v.extend(steady_refs(&eq.rhs));
             v.sort();
             v.dedup();
             v.iter()
                 .filter_map(|&j| {
-                    model
-                        .endogenous
-                        .get(j)
-                        .map(|e| format!("{} = {}", e.name, short(x[j])))
+                    model.endogenous.get(j).map(|e| VariableValue {
+                        name: e.name.clone(),
+                        value: x[j],
+                    })
                 })
                 .collect()
         };
-        parts.push(format!(
-            "{} has {what} (at {})",
-            model.equation_name(i),
-            vars.join(", ")
-        ));
+        parts.push(DomainProblem {
+            equation: model.equation_name(i),
+            what,
+            at,
+        });
         if parts.len() >= REPORT_EQUATIONS {
             break;
         }
     }
-    parts.join("; ")
+    DomainReport::Equations(parts)
 }
 
 pub(super) fn first_bad(e: &Expr, leaves: &SteadyLeaves, depth: usize) -> Option<String> {

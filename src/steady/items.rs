@@ -77,9 +77,10 @@ pub(super) fn resolve_items(
             });
             let name = &model.endogenous[item.variable].name;
             if !v.is_finite() {
-                return Err(SteadyError::BadValue(format!(
-                    "the `steady` section gives {name} a value that is not a finite number ({v}) at this calibration"
-                )));
+                return Err(SteadyError::NotFiniteValue {
+                    variable: name.clone(),
+                    value: v,
+                });
             }
             match item.kind {
                 SteadyKind::Known => known[item.variable] = Some(v),
@@ -109,11 +110,11 @@ pub(super) fn resolve_items(
         .collect();
     for j in 0..n {
         if model.endogenous[j].log && start[j] <= 0.0 {
-            let what = if known[j].is_some() { "value" } else { "guess" };
-            return Err(SteadyError::BadValue(format!(
-                "{} is a `log` variable, so its steady state must be positive, but its {what} is {}; give it a positive `guess` or value",
-                model.endogenous[j].name, start[j]
-            )));
+            return Err(SteadyError::LogStartNotPositive {
+                variable: model.endogenous[j].name.clone(),
+                value: start[j],
+                is_guess: known[j].is_none(),
+            });
         }
     }
     Ok((known, start))

@@ -22,11 +22,17 @@ use crate::model::{BinaryOp, Expr, Leaves, Model, SteadyKind, MAX_EXPR_DEPTH};
 use crate::symbolic::CompiledModel;
 
 mod explain;
+pub mod failure;
 mod items;
 mod newton;
 mod scales;
 
 use explain::*;
+use failure::short;
+pub use failure::{
+    DomainProblem, DomainReport, KnownValuesDetail, Point, ResidualReport, SingularReport,
+    ValueConflict, VariableValue, WorstEquation,
+};
 use items::*;
 use newton::*;
 use scales::*;
@@ -105,14 +111,24 @@ impl NewtonParams {
 pub enum SteadyError {
     #[error("the `steady` values of {names} depend on each other in a cycle; give one of them a value that uses parameters only")]
     Cycle { names: String },
-    #[error("{0}")]
-    BadValue(String),
-    #[error("the `steady` values leave equations unsatisfied (residual above {KNOWN_VALUE_TOL:e} times the size of the equation's terms): {0}. Check these values, or turn them into `guess` lines so the solver can adjust them")]
-    KnownValuesInconsistent(String),
+    #[error("the `steady` section gives {variable} a value that is not a finite number ({value}) at this calibration")]
+    NotFiniteValue { variable: String, value: f64 },
+    #[error("{variable} is a `log` variable, so its steady state must be positive, but its {} is {value}; give it a positive `guess` or value", if *.is_guess { "guess" } else { "value" })]
+    LogStartNotPositive {
+        variable: String,
+        value: f64,
+        /// The starting value came from a `guess` (else from a `steady` value).
+        is_guess: bool,
+    },
+    #[error("the `steady` values leave equations unsatisfied (residual above {KNOWN_VALUE_TOL:e} times the size of the equation's terms): {worst}{detail}. Check these values, or turn them into `guess` lines so the solver can adjust them")]
+    KnownValuesInconsistent {
+        worst: ResidualReport,
+        detail: KnownValuesDetail,
+    },
     #[error("the steady-state equations cannot be evaluated at the starting point: {0}. Give a `guess` inside the domain (positive arguments of ln, log10, sqrt and of ^ with fractional powers; no division by zero)")]
-    Domain(String),
+    Domain(DomainReport),
     #[error("the `steady` values put an equation outside its domain: {0}. Check these values (a division by a variable given as zero, the logarithm or square root of a negative value)")]
-    DomainAtGivenValues(String),
+    DomainAtGivenValues(DomainReport),
     #[error("{equation} has {expression} = {value} at the calibration, and that expression depends on parameters only ({parameters}): check their values (no guess of a variable can change it)")]
     ParameterDomain {
         equation: String,
@@ -125,9 +141,12 @@ pub enum SteadyError {
     #[error("{variables} in {equation} has no steady state: no constant value satisfies that equation (the dates of {variables} cancel and a constant is left, as in x = x[t-1] + 1: a trend or a unit root). Write the model in growth rates or detrend it")]
     NoConstantSolution { equation: String, variables: String },
     #[error("{0}")]
-    Singular(String),
+    Singular(SingularReport),
     #[error("Newton's method did not find the steady state after {iterations} iterations; the largest residuals remain in {report}. Hint: give a `guess` closer to the solution for the variables involved, or `steady` values where you know them; check signs, and the domains of ln, sqrt and ^")]
-    NotFound { iterations: usize, report: String },
+    NotFound {
+        iterations: usize,
+        report: ResidualReport,
+    },
 }
 
 /// A steady state that was found.

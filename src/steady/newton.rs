@@ -64,10 +64,10 @@ pub(super) fn newton_solve(
     for iter in 1..=np.max_iterations {
         let jac = assemble(compiled, params, &x, &col_of, log, m, &mut work, &mut jv);
         if jac.iter().any(|v| !v.is_finite()) {
-            return Err(SteadyError::Domain(format!(
-                "the Jacobian is not finite at iteration {iter} ({})",
-                describe_point(model, &unknown, &x)
-            )));
+            return Err(SteadyError::Domain(DomainReport::JacobianNotFinite {
+                iteration: iter,
+                at: describe_point(model, &unknown, &x),
+            }));
         }
         let rv = DVector::from_column_slice(&r);
         let step = match newton_step(&jac, &rv, np) {
@@ -77,11 +77,12 @@ pub(super) fn newton_solve(
                 match lm_step(&jac, &rv) {
                     Some(d) => d,
                     None => {
-                        return Err(SteadyError::Singular(format!(
-                            "{} (Newton iteration {iter}; largest residuals in {})",
-                            singular_report(model, &unknown, &jac, &x),
-                            residual_report(model, compiled, &r, &term_scales(model, params, &x))
-                        )))
+                        let worst =
+                            residual_report(model, compiled, &r, &term_scales(model, params, &x));
+                        return Err(SteadyError::Singular(SingularReport {
+                            during: Some((iter, worst)),
+                            ..singular_report(model, &unknown, &jac, &x)
+                        }));
                     }
                 }
             }
@@ -162,9 +163,10 @@ pub(super) fn not_found(
 ) -> SteadyError {
     let report = residual_report(model, compiled, r, &term_scales(model, params, x));
     if n_unknown < compiled.n_equations {
-        SteadyError::KnownValuesInconsistent(format!(
-            "{report} (the other variables were fitted by least squares over {iterations} iterations)"
-        ))
+        SteadyError::KnownValuesInconsistent {
+            worst: report,
+            detail: KnownValuesDetail::FittedOver { iterations },
+        }
     } else {
         SteadyError::NotFound { iterations, report }
     }
@@ -302,12 +304,10 @@ pub(super) fn finish(
     let relative = relative_at(model, params, &values, &r);
     if relative > KNOWN_VALUE_TOL {
         if n_unknown == 0 {
-            return Err(SteadyError::KnownValuesInconsistent(residual_report(
-                model,
-                compiled,
-                &r,
-                &term_scales(model, params, &values),
-            )));
+            return Err(SteadyError::KnownValuesInconsistent {
+                worst: residual_report(model, compiled, &r, &term_scales(model, params, &values)),
+                detail: KnownValuesDetail::None,
+            });
         }
         return Err(not_found(
             model, compiled, params, &values, &r, iterations, n_unknown,
