@@ -5,7 +5,6 @@
 //!     worst equations: argmax_i |R_i(x)| / sum_k |term_ik(x)|
 //! ```
 
-#[allow(unused_imports)]
 use super::*;
 
 /// After a failed solve, looks for the real cause and returns it in place of `first` (or the

@@ -5,7 +5,6 @@
 //!     x_j = value_j(params, x_k for earlier items)     (`steady` or `guess` item for x_j)
 //! ```
 
-#[allow(unused_imports)]
 use super::*;
 
 /// Leaves for `steady`-section expressions: parameters and already resolved steady values.

@@ -7,7 +7,6 @@
 //!
 //! `log` variables move in u = ln x. Block by block when the system decomposes.
 
-#[allow(unused_imports)]
 use super::*;
 
 /// Damped Newton (module doc, step 3) with the variables of `known` fixed, from `start`, in logs

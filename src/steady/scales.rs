@@ -7,7 +7,6 @@
 //! so that every convergence test means the same for any units and any equation multiplied
 //! through by a constant.
 
-#[allow(unused_imports)]
 use super::*;
 
 /// The size of each equation's terms at the steady-state point `x`: the sum of the absolute
