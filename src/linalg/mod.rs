@@ -27,7 +27,7 @@ pub type C64 = nalgebra::Complex<f64>;
 pub(crate) use crate::qz::rotation::Rotation;
 
 pub use cholesky::{cholesky_in_place, cholesky_solve, semidefinite_factor, FactorError};
-pub use complex::{cmul, frobenius_c, split, to_complex};
+pub use complex::{cmul, frobenius_c, spectral_norm_estimate, split, to_complex};
 pub use lyapunov::{
     doubling, relative_residual, solve_discrete_lyapunov, solve_discrete_lyapunov_with,
     solve_quasi_triangular_stein, solve_triangular_stein, solve_with_real_schur, solve_with_schur,

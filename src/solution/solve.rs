@@ -27,7 +27,7 @@ use super::{Counts, Root, SolvedModel, StateSpace, Status};
 use crate::canonical::{
     build_pencil, CanonicalError, Layout, Pencil, StateElement, StaticTreatment,
 };
-use crate::linalg::{cmul, to_complex};
+use crate::linalg::{cmul, spectral_norm_estimate, to_complex};
 use crate::linear::balance::{scaled, Scaling};
 use crate::linear::{linearize, LinearError, LinearSystem};
 use crate::model::{timing, Model};
@@ -640,26 +640,6 @@ const SVD_LIMIT: usize = 60;
 /// largest singular values; 30 steps leave an error of a few percent in the worst common cases).
 const POWER_STEPS: usize = 30;
 
-/// An estimate (from below) of the spectral norm of `w` by power iteration on W^H W, started from
-/// the vector of ones. Returns the estimate.
-fn inverse_norm_estimate(w: &DMatrix<C64>) -> f64 {
-    let n = w.ncols();
-    let mut v = nalgebra::DVector::<C64>::from_element(n, C64::new(1.0 / (n as f64).sqrt(), 0.0));
-    let wh = w.adjoint();
-    let mut est = 0.0;
-    for _ in 0..POWER_STEPS {
-        let u = w * &v;
-        let z = &wh * &u;
-        let nz = z.norm();
-        if !(nz.is_finite()) || nz == 0.0 {
-            return if nz == 0.0 { est } else { f64::INFINITY };
-        }
-        est = nz.sqrt();
-        v = z / C64::new(nz, 0.0);
-    }
-    est
-}
-
 /// Solves `lhs * X = rhs` by LU; `None` if `lhs` is singular.
 fn solve_left(lhs: DMatrix<C64>, rhs: &DMatrix<C64>) -> Option<DMatrix<C64>> {
     if lhs.nrows() == 0 {
@@ -741,7 +721,7 @@ fn decision_rule(
                 .copied()
                 .fold(f64::INFINITY, f64::min)
         } else {
-            1.0 / inverse_norm_estimate(&w)
+            1.0 / spectral_norm_estimate(&w, POWER_STEPS)
         };
         if sigma.is_nan() || sigma < RANK_TOL {
             return Ok(RuleOutcome::RankFailure { sigma });
