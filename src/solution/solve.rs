@@ -153,8 +153,12 @@ pub enum SolveError {
     BadThreshold { value: f64, source_desc: String },
     #[error("the model given to solve does not have the structure that was prepared ({0}); prepare it again")]
     StructureMismatch(String),
-    #[error("the linearized system is singular: det(B - zA) vanishes for every z, so the equations do not determine the variables (an equation may repeat another, or a variable may drop out at the steady state). Check the equations that involve {involved}")]
-    SingularPencil { involved: String },
+    #[error("the linearized system is singular: det(B - zA) vanishes for every z, so the equations do not determine the variables (an equation may repeat another, or a variable may drop out at the steady state). Check the equations that involve {}", absent_text(.absent))]
+    SingularPencil {
+        /// The variables no equation depends on at the steady state (the usual culprits); empty
+        /// when none stands out.
+        absent: Vec<String>,
+    },
     #[error("{what} is {size}, above saddle's limit of {limit} for its dense solver")]
     TooLarge {
         what: &'static str,
@@ -165,6 +169,18 @@ pub enum SolveError {
     Qz(QzError),
     #[error("the solution could not be computed: {0}")]
     Numerical(NumericalFailure),
+}
+
+/// The wording of [`SolveError::SingularPencil`]'s variables.
+fn absent_text(absent: &[String]) -> String {
+    if absent.is_empty() {
+        "every variable (no single one stands out)".to_string()
+    } else {
+        format!(
+            "{} (no equation depends on it at the steady state)",
+            absent.join(", ")
+        )
+    }
 }
 
 /// Which step of the decision-rule formulas failed (module doc).
@@ -602,19 +618,11 @@ fn qz_error(e: QzError, model: &Model, linear: &LinearSystem) -> SolveError {
             vars.sort();
             vars.dedup();
             // Variables that no equation moves at the steady state are the usual culprits.
-            let absent: Vec<&str> = (0..model.endogenous.len())
+            let absent: Vec<String> = (0..model.endogenous.len())
                 .filter(|j| !vars.contains(j))
-                .map(|j| model.endogenous[j].name.as_str())
+                .map(|j| model.endogenous[j].name.clone())
                 .collect();
-            let involved = if absent.is_empty() {
-                "every variable (no single one stands out)".to_string()
-            } else {
-                format!(
-                    "{} (no equation depends on it at the steady state)",
-                    absent.join(", ")
-                )
-            };
-            SolveError::SingularPencil { involved }
+            SolveError::SingularPencil { absent }
         }
         other => SolveError::Qz(other),
     }

@@ -100,9 +100,7 @@ pub(super) fn resolve_items(
             .filter(|(_, d)| !**d)
             .filter_map(|(s, _)| model.endogenous.get(s.variable).map(|v| v.name.clone()))
             .collect();
-        return Err(SteadyError::Cycle {
-            names: names.join(", "),
-        });
+        return Err(SteadyError::Cycle { names });
     }
     let start: Vec<f64> = (0..n)
         .map(|j| known[j].or(guess[j]).unwrap_or_else(|| default(j)))

@@ -109,8 +109,8 @@ impl NewtonParams {
 /// Why no steady state was found. Every message is a sentence a person can act on.
 #[derive(Debug, Clone, PartialEq, thiserror::Error)]
 pub enum SteadyError {
-    #[error("the `steady` values of {names} depend on each other in a cycle; give one of them a value that uses parameters only")]
-    Cycle { names: String },
+    #[error("the `steady` values of {} depend on each other in a cycle; give one of them a value that uses parameters only", .names.join(", "))]
+    Cycle { names: Vec<String> },
     #[error("the `steady` section gives {variable} a value that is not a finite number ({value}) at this calibration")]
     NotFiniteValue { variable: String, value: f64 },
     #[error("{variable} is a `log` variable, so its steady state must be positive, but its {} is {value}; give it a positive `guess` or value", if *.is_guess { "guess" } else { "value" })]
