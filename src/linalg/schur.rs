@@ -7,8 +7,8 @@
 //!
 //! The real form comes from nalgebra's Francis QR iteration; the complex form triangularizes each
 //! 2 x 2 block of the real one by one unitary similarity, and [`ComplexSchur::reorder_front`]
-//! moves selected eigenvalues to the front by plane rotations (the [`crate::qz`] rotation type,
-//! re-exported as [`super::Rotation`]).
+//! moves selected eigenvalues to the front by plane rotations (the `qz` rotation type,
+//! re-exported as `linalg::Rotation` within the crate).
 
 use nalgebra::DMatrix;
 
