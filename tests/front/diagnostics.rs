@@ -297,7 +297,8 @@ fn a_closed_stdout_pipe_ends_quietly() {
 }
 
 /// Every diagnostic code written in the library's source, with where: the string literal that
-/// follows `Diagnostic::error(` or `Diagnostic::warning(`, or is assigned to `.code`.
+/// follows `Diagnostic::error(`, `Diagnostic::warning(` or `report_unknown(` (whose first
+/// argument is the code), or is assigned to `.code`.
 fn codes_in_source() -> Vec<(String, String)> {
     fn walk(dir: &Path, out: &mut Vec<PathBuf>) {
         for e in std::fs::read_dir(dir).unwrap() {
@@ -317,7 +318,12 @@ fn codes_in_source() -> Vec<(String, String)> {
     let mut out = Vec::new();
     for f in files {
         let text = std::fs::read_to_string(&f).unwrap();
-        for marker in ["Diagnostic::error(", "Diagnostic::warning(", ".code = "] {
+        for marker in [
+            "Diagnostic::error(",
+            "Diagnostic::warning(",
+            "report_unknown(",
+            ".code = ",
+        ] {
             let mut rest = text.as_str();
             while let Some(i) = rest.find(marker) {
                 rest = &rest[i + marker.len()..];
@@ -338,6 +344,8 @@ fn every_diagnostic_has_its_own_code() {
     // The scan must see the codes it is meant to police (a broken scan would pass vacuously).
     assert!(codes.len() > 80, "only {} codes found", codes.len());
     for known in [
+        "unknown-control",
+        "unknown-steady-name",
         "duplicate-name",
         "unknown-name",
         "syntax",

@@ -10,19 +10,13 @@ impl<'a> Checker<'a> {
     /// Reports `name` as an unknown innovation, with a did-you-mean among innovations and
     /// observables, else `fallback_help` if given.
     pub(super) fn unknown_innovation(&mut self, name: &ast::Name<'a>, fallback_help: Option<&str>) {
-        let mut d = Diagnostic::error(
+        self.report_unknown(
             "unknown-innovation",
-            format!("unknown innovation `{}`", name.text),
-            name.span,
-            "not declared",
+            "innovation",
+            name,
+            |s| matches!(s, Symbol::Exogenous(_) | Symbol::Observable(_)),
+            fallback_help,
         );
-        let suggestion = self.suggest(name.text, |s| {
-            matches!(s, Symbol::Exogenous(_) | Symbol::Observable(_))
-        });
-        if let Some(h) = suggestion.or(fallback_help.map(str::to_string)) {
-            d = d.with_help(h);
-        }
-        self.error(d);
     }
 
     /// Resolves a name in a covariance item: an innovation or an observable (its measurement

@@ -309,17 +309,13 @@ impl<'a> Checker<'a> {
                 None
             }
             None => {
-                let mut d = Diagnostic::error(
+                self.report_unknown(
                     "unknown-control",
-                    format!("unknown variable `{}`", name.text),
-                    name.span,
-                    "not declared",
+                    "variable",
+                    name,
+                    |s| matches!(s, Symbol::Endogenous(_)),
+                    Some("a control is a variable of the endogenous section"),
                 );
-                d = match self.suggest(name.text, |s| matches!(s, Symbol::Endogenous(_))) {
-                    Some(h) => d.with_help(h),
-                    None => d.with_help("a control is a variable of the endogenous section"),
-                };
-                self.error(d);
                 None
             }
         }
@@ -529,17 +525,13 @@ impl<'a> Checker<'a> {
                     None
                 }
                 None => {
-                    let mut d = Diagnostic::error(
+                    self.report_unknown(
                         "unknown-prior-parameter",
-                        format!("unknown parameter `{}`", n.text),
-                        n.span,
-                        "not declared",
+                        "parameter",
+                        n,
+                        |s| matches!(s, Symbol::Parameter(_)),
+                        Some("a prior names a parameter of the parameters section"),
                     );
-                    d = match self.suggest(n.text, |s| matches!(s, Symbol::Parameter(_))) {
-                        Some(h) => d.with_help(h),
-                        None => d.with_help("a prior names a parameter of the parameters section"),
-                    };
-                    self.error(d);
                     None
                 }
             },

@@ -37,18 +37,13 @@ impl<'a> Checker<'a> {
                     None
                 }
                 None => {
-                    let mut d = Diagnostic::error(
+                    self.report_unknown(
                         "unknown-steady-name",
-                        format!("unknown name `{}`", s.name.text),
-                        s.name.span,
-                        "not declared",
+                        "name",
+                        &s.name,
+                        |s| matches!(s, Symbol::Endogenous(_)),
+                        None,
                     );
-                    if let Some(h) =
-                        self.suggest(s.name.text, |s| matches!(s, Symbol::Endogenous(_)))
-                    {
-                        d = d.with_help(h);
-                    }
-                    self.error(d);
                     None
                 }
             };

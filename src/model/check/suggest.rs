@@ -112,4 +112,27 @@ impl<'a> Checker<'a> {
         };
         self.error(d);
     }
+
+    /// Reports `name` as an unknown `what` with diagnostic `code` (each caller its own): a
+    /// did-you-mean among the symbols `filter` accepts as help, else `fallback_help` if given.
+    pub(super) fn report_unknown(
+        &mut self,
+        code: &'static str,
+        what: &str,
+        name: &ast::Name<'a>,
+        filter: impl Fn(Symbol) -> bool,
+        fallback_help: Option<&str>,
+    ) {
+        let mut d = Diagnostic::error(
+            code,
+            format!("unknown {what} `{}`", name.text),
+            name.span,
+            "not declared",
+        );
+        let suggestion = self.suggest(name.text, filter);
+        if let Some(h) = suggestion.or(fallback_help.map(str::to_string)) {
+            d = d.with_help(h);
+        }
+        self.error(d);
+    }
 }
