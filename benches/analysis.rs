@@ -6,9 +6,9 @@
 use std::time::{Duration, Instant};
 
 use nalgebra::DMatrix;
-use saddle::analysis::lyapunov::solve_discrete_lyapunov;
 use saddle::analysis::moments::moments;
 use saddle::analysis::simulate::{simulate, SimulationSettings};
+use saddle::linalg::solve_discrete_lyapunov;
 use saddle::solution::{Counts, SolvedModel, StateSpace, Status};
 
 fn lcg(rows: usize, cols: usize, seed: u64, scale: f64) -> DMatrix<f64> {

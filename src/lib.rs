@@ -3,6 +3,8 @@
 //! The modules follow the data's path and never reach back up it:
 //!
 //! ```text
+//! linalg (shared dense linear algebra: Schur forms, Stein/Sylvester, Cholesky; used below)
+//!
 //! language (text -> syntax tree + diagnostics)
 //!   -> model (checked model: resolved expression trees, calibrated parameters)
 //!   -> symbolic (exact derivatives, compiled evaluation)
@@ -27,6 +29,7 @@ pub mod data;
 pub mod estimation;
 pub mod kalman;
 pub mod language;
+pub mod linalg;
 pub mod linear;
 pub mod model;
 pub mod output;

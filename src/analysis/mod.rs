@@ -3,7 +3,6 @@
 //! (or, for sweeps, re-solves a [`crate::model::Model`]); nothing reads source text.
 
 pub mod irf;
-pub mod lyapunov;
 pub mod moments;
 pub mod simulate;
 pub mod sweep;

@@ -4,7 +4,7 @@
 //!     y_t - ybar = P s_{t-1} + Q e_t,     s_t = G s_{t-1} + H e_t,     e_t ~ iid (0, Sigma)
 //! ```
 //!
-//! * Var(s) = X solves X = G X G' + H Sigma H' (discrete Lyapunov, [`super::lyapunov`]);
+//! * Var(s) = X solves X = G X G' + H Sigma H' (discrete Lyapunov, [`crate::linalg::lyapunov`]);
 //!   Var(y) = P X P' + Q Sigma Q' (s_{t-1} is independent of e_t).
 //! * Cov(y_t, y_{t-k}) = P G^k X P' + P G^{k-1} H Sigma Q' for k >= 1; the autocorrelation of
 //!   variable i at lag k is its diagonal entry over Var(y_i).
@@ -27,9 +27,10 @@
 use nalgebra::DMatrix;
 use thiserror::Error;
 
-use super::lyapunov::{
-    cmul, frobenius_c, solve_quasi_triangular_stein, solve_triangular_stein, ComplexSchur,
-    LyapunovError, RealSchur, C64, RESIDUAL_TOL,
+use crate::linalg::{
+    cmul, doubling, frobenius_c, relative_residual, semidefinite_factor,
+    solve_quasi_triangular_stein, solve_sylvester_upper, solve_triangular_stein, to_complex,
+    ComplexSchur, FactorError, LyapunovError, LyapunovMethod, LyapunovParams, RealSchur, C64,
 };
 use crate::solution::{SolvedModel, StateSpace, Status};
 
@@ -89,19 +90,50 @@ pub enum MomentsError {
     #[error("the model has no unique stable solution (status {status}); moments need one")]
     NotDeterminate { status: &'static str },
     #[error("the solution matrices have inconsistent sizes: {0}")]
-    Shape(String),
+    Shape(Shapes),
     #[error("the solution matrices have a non-finite entry")]
     NonFinite,
     #[error(transparent)]
     Covariance(#[from] CovarianceError),
     #[error(transparent)]
     Lyapunov(#[from] LyapunovError),
+    #[error("the Lyapunov solve of the stable block left a relative residual {residual:e} above the tolerance {tolerance:e} (doubling does not apply: the transition matrix has unit or explosive roots)")]
+    StableBlockResidual { residual: f64, tolerance: f64 },
     #[error("the stable and the unit or explosive modes of the transition matrix are too close to be separated (eigenvalue gap {gap:e})")]
     Inseparable { gap: f64 },
     #[error("at most {MAX_LAGS} autocorrelation lags, got {0}")]
     TooManyLags(usize),
     #[error("forecast-error horizons must be between 1 and {MAX_HORIZON}, got {0}")]
     BadHorizon(usize),
+}
+
+/// The sizes of a solution's lists and matrices (rows, columns), as found when they disagree.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub struct Shapes {
+    pub variables: usize,
+    pub innovations: usize,
+    pub p: (usize, usize),
+    pub q: (usize, usize),
+    pub g: (usize, usize),
+    pub h: (usize, usize),
+    pub covariance: (usize, usize),
+}
+
+impl std::fmt::Display for Shapes {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        let m = |(r, c): (usize, usize)| format!("{r}x{c}");
+        write!(
+            f,
+            "{} variables, {} innovations, P {}, Q {}, G {}, H {}, covariance {}",
+            self.variables,
+            self.innovations,
+            m(self.p),
+            m(self.q),
+            m(self.g),
+            m(self.h),
+            m(self.covariance)
+        )
+    }
 }
 
 /// Everything `saddle moments` reports. Deviations are log deviations for `log` variables.
@@ -127,6 +159,8 @@ pub struct Moments {
     pub warnings: Vec<String>,
     /// Relative residual of the Lyapunov solve of the stable block.
     pub lyapunov_residual: f64,
+    /// Which algorithm solved it: the Schur route, or doubling when that failed.
+    pub lyapunov_method: LyapunovMethod,
 }
 
 /// The lower-triangular factor L with L L' = `cov` (Cholesky, innovations in declaration order),
@@ -144,66 +178,26 @@ pub fn covariance_factor(
             shocks: n,
         });
     }
-    for i in 0..n {
-        for j in 0..n {
-            if !cov[(i, j)].is_finite() {
-                return Err(CovarianceError::NonFinite {
-                    shock: shocks[i].clone(),
-                });
+    semidefinite_factor(cov, PIVOT_TOL).map_err(|e| match e {
+        FactorError::Shape { rows, cols } => CovarianceError::Shape {
+            rows,
+            cols,
+            shocks: n,
+        },
+        FactorError::NonFinite { row } => CovarianceError::NonFinite {
+            shock: shocks[row].clone(),
+        },
+        FactorError::NotSymmetric { first, second } => CovarianceError::NotSymmetric {
+            first: shocks[first].clone(),
+            second: shocks[second].clone(),
+        },
+        FactorError::NotPositiveSemidefinite { index, pivot } => {
+            CovarianceError::NotPositiveSemidefinite {
+                shock: shocks[index].clone(),
+                pivot,
             }
         }
-    }
-    let scale = (0..n).map(|i| cov[(i, i)].abs()).fold(0.0, f64::max);
-    for i in 0..n {
-        for j in 0..i {
-            if (cov[(i, j)] - cov[(j, i)]).abs() > PIVOT_TOL * scale.max(f64::MIN_POSITIVE) {
-                return Err(CovarianceError::NotSymmetric {
-                    first: shocks[j].clone(),
-                    second: shocks[i].clone(),
-                });
-            }
-        }
-    }
-    let zero = PIVOT_TOL * scale;
-    let mut l = DMatrix::<f64>::zeros(n, n);
-    for j in 0..n {
-        let mut d = cov[(j, j)];
-        for k in 0..j {
-            d -= l[(j, k)] * l[(j, k)];
-        }
-        if d < -zero {
-            return Err(CovarianceError::NotPositiveSemidefinite {
-                shock: shocks[j].clone(),
-                pivot: d,
-            });
-        }
-        if d <= zero {
-            // Degenerate: the rest of the column must vanish too, or the matrix is indefinite.
-            for i in (j + 1)..n {
-                let mut s = cov[(i, j)];
-                for k in 0..j {
-                    s -= l[(i, k)] * l[(j, k)];
-                }
-                if s.abs() > zero.sqrt() * scale.sqrt() + zero {
-                    return Err(CovarianceError::NotPositiveSemidefinite {
-                        shock: shocks[j].clone(),
-                        pivot: d,
-                    });
-                }
-            }
-            continue;
-        }
-        let r = d.sqrt();
-        l[(j, j)] = r;
-        for i in (j + 1)..n {
-            let mut s = cov[(i, j)];
-            for k in 0..j {
-                s -= l[(i, k)] * l[(j, k)];
-            }
-            l[(i, j)] = s / r;
-        }
-    }
-    Ok(l)
+    })
 }
 
 /// Checks that the state space's matrices agree with each other and with the model's lists.
@@ -221,19 +215,15 @@ pub fn check_shapes(solved: &SolvedModel, ss: &StateSpace) -> Result<(), Moments
         && solved.covariance.nrows() == ne
         && solved.covariance.ncols() == ne;
     if !ok {
-        return Err(MomentsError::Shape(format!(
-            "{ny} variables, {ne} innovations, P {}x{}, Q {}x{}, G {}x{}, H {}x{}, covariance {}x{}",
-            ss.p.nrows(),
-            ss.p.ncols(),
-            ss.q.nrows(),
-            ss.q.ncols(),
-            ss.g.nrows(),
-            ss.g.ncols(),
-            ss.h.nrows(),
-            ss.h.ncols(),
-            solved.covariance.nrows(),
-            solved.covariance.ncols()
-        )));
+        return Err(MomentsError::Shape(Shapes {
+            variables: ny,
+            innovations: ne,
+            p: ss.p.shape(),
+            q: ss.q.shape(),
+            g: ss.g.shape(),
+            h: ss.h.shape(),
+            covariance: solved.covariance.shape(),
+        }));
     }
     if [&ss.p, &ss.q, &ss.g, &ss.h]
         .iter()
@@ -245,12 +235,27 @@ pub fn check_shapes(solved: &SolvedModel, ss: &StateSpace) -> Result<(), Moments
 }
 
 /// Computes every moment of [`Moments`] from a determinate solution (reads only). `lags` is the
-/// largest autocorrelation lag, `horizons` the FEVD horizons (each at least 1).
+/// largest autocorrelation lag, `horizons` the FEVD horizons (each at least 1). The Lyapunov
+/// solves use the default [`LyapunovParams`]; see [`moments_with`].
 pub fn moments(
     solved: &SolvedModel,
     lags: usize,
     horizons: &[usize],
 ) -> Result<Moments, MomentsError> {
+    moments_with(solved, lags, horizons, &LyapunovParams::default())
+}
+
+/// As [`moments`], with the Lyapunov solver's tuning `params`. When every mode is stable and the
+/// Schur route fails (the QR iteration exceeds its sweep budget, or the residual is above
+/// `params.residual_tol`), the covariances come from doubling instead, checked by the same
+/// residual test ([`Moments::lyapunov_method`] says which ran).
+pub fn moments_with(
+    solved: &SolvedModel,
+    lags: usize,
+    horizons: &[usize],
+    params: &LyapunovParams,
+) -> Result<Moments, MomentsError> {
+    params.validate()?;
     let ss = match (&solved.solution, solved.status) {
         (Some(ss), Status::Determinate) => ss,
         _ => {
@@ -280,11 +285,21 @@ pub fn moments(
         ));
     }
 
-    let real = RealSchur::new(&ss.g)?;
-    let core = if real.spectral_radius() < 1.0 - UNIT_ROOT_TOL {
-        core_stationary(ss, &solved.covariance, &l, &real, lags)?
-    } else {
-        core_with_unit_roots(solved, ss, &l, lags)?
+    let sigma = &solved.covariance;
+    let core = match RealSchur::with_sweeps(&ss.g, params.schur_sweeps_per_dim) {
+        Ok(real) if real.spectral_radius() < 1.0 - UNIT_ROOT_TOL => {
+            match core_stationary(ss, sigma, &l, &real, lags, params.residual_tol)? {
+                Ok(core) => core,
+                Err(schur_residual) => core_doubling(ss, sigma, &l, lags, params, schur_residual)?,
+            }
+        }
+        Ok(_) => core_with_unit_roots(solved, ss, &l, lags, params.residual_tol)?,
+        // Without a Schur form the spectral radius is unknown: doubling diverges on an unstable
+        // G, which its residual test then reports.
+        Err(LyapunovError::SchurNoConvergence) => {
+            core_doubling(ss, sigma, &l, lags, params, f64::INFINITY)?
+        }
+        Err(e) => return Err(e.into()),
     };
     let Core {
         stationary,
@@ -293,6 +308,7 @@ pub fn moments(
         autocov,
         residual: lyapunov_residual,
         warnings: more,
+        method: lyapunov_method,
     } = core;
     warnings.extend(more);
 
@@ -379,6 +395,7 @@ pub fn moments(
         nonstationary,
         warnings,
         lyapunov_residual,
+        lyapunov_method,
     })
 }
 
@@ -394,41 +411,36 @@ struct Core {
     autocov: Vec<Vec<f64>>,
     residual: f64,
     warnings: Vec<String>,
+    method: LyapunovMethod,
 }
 
-/// The relative residual ||Y - T Y T' - C||_F / (||C||_F + ||T||_F^2 ||Y||_F) (0 if all zero).
-fn stein_residual_real(t: &DMatrix<f64>, y: &DMatrix<f64>, c: &DMatrix<f64>) -> f64 {
-    let r = y - t * y * t.transpose() - c;
-    let denom = c.norm() + t.norm().powi(2) * y.norm();
-    if denom == 0.0 {
-        0.0
-    } else {
-        r.norm() / denom
-    }
-}
-
-/// Every mode stable: real Schur basis G = U T U', per-innovation Y_j = T Y_j T' + b_j b_j'
-/// with b_j = U' H l_j, Var_j(y_i) = (P U Y_j U' P')_ii + (Q l_j)_i^2; autocovariances from
-/// S_1 = T Y U'P' + (U'H L) L'Q', S_k = T S_{k-1}, diag(P U S_k). Reads only.
-fn core_stationary(
+/// Every mode stable, in an orthogonal basis s = U w with w_t = T w_{t-1} + U'H e_t (T = U'G U):
+/// per innovation Y_j = T Y_j T' + b_j b_j' with b_j = U'H l_j, solved by `solve(T, C)`;
+/// Var_j(y_i) = (P U Y_j U' P')_ii + (Q l_j)_i^2; the sum Y is checked by [`relative_residual`];
+/// autocovariances from S_1 = T Y U'P' + (U'H L) L'Q', S_k = T S_{k-1}, diag(P U S_k). Reads
+/// only. Returns the core, or `Ok(Err(residual))` when the residual exceeds `tol`.
+#[allow(clippy::too_many_arguments)]
+fn core_in_basis(
     ss: &StateSpace,
     sigma: &DMatrix<f64>,
     l: &DMatrix<f64>,
-    schur: &RealSchur,
+    (u, t): (&DMatrix<f64>, &DMatrix<f64>),
     lags: usize,
-) -> Result<Core, MomentsError> {
+    tol: f64,
+    method: LyapunovMethod,
+    mut solve: impl FnMut(&DMatrix<f64>, &DMatrix<f64>) -> Result<DMatrix<f64>, MomentsError>,
+) -> Result<Result<Core, f64>, MomentsError> {
     let ny = ss.p.nrows();
     let ne = l.ncols();
     let ns = ss.g.nrows();
-    let pu = &ss.p * &schur.q; // ny x ns
-    let uhl = schur.q.transpose() * (&ss.h * l); // ns x ne
+    let pu = &ss.p * u; // ny x ns
+    let uhl = u.transpose() * (&ss.h * l); // ns x ne
     let ql = &ss.q * l;
     let mut part = DMatrix::<f64>::zeros(ny, ne);
     let mut y_total = DMatrix::<f64>::zeros(ns, ns);
     for j in 0..ne {
         let b = uhl.column(j);
-        let c = b * b.transpose();
-        let yj = solve_quasi_triangular_stein(&schur.t, &schur.blocks, &c)?;
+        let yj = solve(t, &(b * b.transpose()))?;
         let py = &pu * &yj;
         for i in 0..ny {
             let s = py.row(i).dot(&pu.row(i));
@@ -437,35 +449,91 @@ fn core_stationary(
         y_total += yj;
     }
     let y_total = (&y_total + y_total.transpose()) * 0.5;
-    let c_total = &uhl * uhl.transpose();
-    let residual = stein_residual_real(&schur.t, &y_total, &c_total);
-    if residual.is_nan() || residual > RESIDUAL_TOL {
-        return Err(MomentsError::Lyapunov(LyapunovError::NoConvergence {
-            schur_residual: residual,
-            doubling_residual: f64::NAN,
-            steps: 0,
-        }));
+    let residual = relative_residual(t, &(&uhl * uhl.transpose()), &y_total);
+    if !(residual <= tol) {
+        return Ok(Err(residual));
     }
     let v = &pu * &y_total * pu.transpose() + &ss.q * sigma * ss.q.transpose();
     let var_full = (&v + v.transpose()) * 0.5;
     let mut autocov = vec![Vec::with_capacity(lags); ny];
     if lags > 0 {
-        let mut s =
-            &schur.t * (&y_total * pu.transpose()) + &uhl * (l.transpose() * ss.q.transpose());
+        let mut s = t * (&y_total * pu.transpose()) + &uhl * (l.transpose() * ss.q.transpose());
         for _ in 1..=lags {
             for (i, a) in autocov.iter_mut().enumerate() {
                 a.push(pu.row(i).dot(&s.column(i).transpose()));
             }
-            s = &schur.t * &s;
+            s = t * &s;
         }
     }
-    Ok(Core {
+    Ok(Ok(Core {
         stationary: vec![true; ny],
         part,
         var_full,
         autocov,
         residual,
         warnings: Vec::new(),
+        method,
+    }))
+}
+
+/// [`core_in_basis`] in the real Schur basis G = U T U', each Y_j by the quasi-triangular solve.
+fn core_stationary(
+    ss: &StateSpace,
+    sigma: &DMatrix<f64>,
+    l: &DMatrix<f64>,
+    schur: &RealSchur,
+    lags: usize,
+    tol: f64,
+) -> Result<Result<Core, f64>, MomentsError> {
+    let basis = (&schur.q, &schur.t);
+    core_in_basis(
+        ss,
+        sigma,
+        l,
+        basis,
+        lags,
+        tol,
+        LyapunovMethod::Schur,
+        |t, c| Ok(solve_quasi_triangular_stein(t, &schur.blocks, c)?),
+    )
+}
+
+/// The doubling fallback of [`moments_with`]: [`core_in_basis`] in the original basis (U = I,
+/// T = G), each Y_j by doubling. Returns the core, or [`LyapunovError::NoConvergence`] with the
+/// Schur route's residual (infinite when it produced none) and doubling's.
+fn core_doubling(
+    ss: &StateSpace,
+    sigma: &DMatrix<f64>,
+    l: &DMatrix<f64>,
+    lags: usize,
+    params: &LyapunovParams,
+    schur_residual: f64,
+) -> Result<Core, MomentsError> {
+    let identity = DMatrix::<f64>::identity(ss.g.nrows(), ss.g.nrows());
+    let mut steps = 0;
+    let basis = (&identity, &ss.g);
+    let tol = params.residual_tol;
+    let core = core_in_basis(
+        ss,
+        sigma,
+        l,
+        basis,
+        lags,
+        tol,
+        LyapunovMethod::Doubling,
+        |g, c| {
+            let (x, taken) = doubling(g, c, params.max_doubling_steps);
+            steps = steps.max(taken);
+            Ok(x)
+        },
+    )?;
+    core.map_err(|doubling_residual| {
+        MomentsError::Lyapunov(LyapunovError::NoConvergence {
+            schur_residual,
+            doubling_residual,
+            steps,
+            tolerance: tol,
+        })
     })
 }
 
@@ -477,6 +545,7 @@ fn core_with_unit_roots(
     ss: &StateSpace,
     l: &DMatrix<f64>,
     lags: usize,
+    tol: f64,
 ) -> Result<Core, MomentsError> {
     let ny = solved.variables.len();
     let ne = solved.shocks.len();
@@ -489,10 +558,11 @@ fn core_with_unit_roots(
     let t11 = schur.t.view((0, 0), (n1, n1)).into_owned();
     let t12 = schur.t.view((0, n1), (n1, n2)).into_owned();
     let t22 = schur.t.view((n1, n1), (n2, n2)).into_owned();
-    let z = solve_sylvester_upper(&t11, &t22, &(-t12))?;
-    let pc = ss.p.map(|v| C64::new(v, 0.0));
+    let z = solve_sylvester_upper(&t11, &t22, &(-t12))
+        .map_err(|e| MomentsError::Inseparable { gap: e.gap })?;
+    let pc = to_complex(&ss.p);
     let hl = &ss.h * l;
-    let hlc = hl.map(|v| C64::new(v, 0.0));
+    let hlc = to_complex(&hl);
     let pu = cmul(&pc, &schur.u);
     let uhl = cmul(&schur.u.adjoint(), &hlc);
     let c1 = pu.columns(0, n1).into_owned();
@@ -545,7 +615,7 @@ fn core_with_unit_roots(
     }
 
     // Per-innovation stable-block covariances Y_j = T11 Y_j T11^H + b_j b_j^H.
-    let qc = ss.q.map(|v| C64::new(v, 0.0));
+    let qc = to_complex(&ss.q);
     let ql = &ss.q * l;
     let mut y_total = DMatrix::<C64>::zeros(n1, n1);
     let mut c_total = DMatrix::<C64>::zeros(n1, n1);
@@ -574,12 +644,11 @@ fn core_with_unit_roots(
             frobenius_c(&r) / denom
         }
     };
-    if lyapunov_residual.is_nan() || lyapunov_residual > RESIDUAL_TOL {
-        return Err(MomentsError::Lyapunov(LyapunovError::NoConvergence {
-            schur_residual: lyapunov_residual,
-            doubling_residual: f64::NAN,
-            steps: 0,
-        }));
+    if !(lyapunov_residual <= tol) {
+        return Err(MomentsError::StableBlockResidual {
+            residual: lyapunov_residual,
+            tolerance: tol,
+        });
     }
     let sigma = &solved.covariance;
     let var_full = {
@@ -591,7 +660,7 @@ fn core_with_unit_roots(
     let mut autocov = vec![Vec::with_capacity(lags); ny];
     if lags > 0 {
         // With e = L u (Var u = I), E[v1_{t-1} e_{t-k}'] = T11^{k-1} B1 L' for k >= 1.
-        let lt = l.transpose().map(|v| C64::new(v, 0.0));
+        let lt = to_complex(&l.transpose());
         let mut s =
             cmul(&t11, &cmul(&y_total, &c1.adjoint())) + cmul(&cmul(&b1, &lt), &qc.transpose());
         for _ in 1..=lags {
@@ -613,6 +682,7 @@ fn core_with_unit_roots(
         autocov,
         residual: lyapunov_residual,
         warnings,
+        method: LyapunovMethod::Schur,
     })
 }
 
@@ -663,42 +733,6 @@ pub fn forecast_error_decomposition(
         .iter()
         .filter_map(|h| at.get(h).map(|s| (*h, s.clone())))
         .collect()
-}
-
-/// Solves T11 Z - Z T22 = F for upper-triangular `t11` (n1 x n1) and `t22` (n2 x n2), column by
-/// column (Bartels and Stewart 1972, Comm. ACM 15). Reads only; returns Z (n1 x n2), or
-/// [`MomentsError::Inseparable`] when an eigenvalue of T11 is too close to one of T22.
-pub fn solve_sylvester_upper(
-    t11: &DMatrix<C64>,
-    t22: &DMatrix<C64>,
-    f: &DMatrix<C64>,
-) -> Result<DMatrix<C64>, MomentsError> {
-    let n1 = t11.nrows();
-    let n2 = t22.nrows();
-    let mut z = DMatrix::<C64>::zeros(n1, n2);
-    let scale = frobenius_c(t11).max(frobenius_c(t22)).max(1.0);
-    for j in 0..n2 {
-        let mut b: Vec<C64> = (0..n1).map(|i| f[(i, j)]).collect();
-        for l in 0..j {
-            let w = t22[(l, j)];
-            for (i, bi) in b.iter_mut().enumerate() {
-                *bi += z[(i, l)] * w;
-            }
-        }
-        let mu = t22[(j, j)];
-        for i in (0..n1).rev() {
-            let d = t11[(i, i)] - mu;
-            if d.norm() < 1e3 * f64::EPSILON * scale {
-                return Err(MomentsError::Inseparable { gap: d.norm() });
-            }
-            let zi = b[i] / d;
-            z[(i, j)] = zi;
-            for (k, bk) in b[..i].iter_mut().enumerate() {
-                *bk -= t11[(k, i)] * zi;
-            }
-        }
-    }
-    Ok(z)
 }
 
 impl Moments {

@@ -21,7 +21,7 @@ use rand_chacha::ChaCha20Rng;
 use rand_core::{RngCore, SeedableRng};
 use thiserror::Error;
 
-use super::moments::{check_shapes, covariance_factor, CovarianceError, MomentsError};
+use super::moments::{check_shapes, covariance_factor, CovarianceError, MomentsError, Shapes};
 use crate::solution::{SolvedModel, Status};
 
 /// Largest number of stored values (periods x variables): 5e7 doubles are 400 MB.
@@ -58,8 +58,16 @@ pub struct Simulation {
 pub enum SimulateError {
     #[error("the model has no unique stable solution (status {status}); simulation needs one")]
     NotDeterminate { status: &'static str },
-    #[error("the solution is inconsistent: {0}")]
-    Solution(String),
+    #[error("the solution is inconsistent: the matrices have inconsistent sizes: {0}")]
+    Shape(Shapes),
+    #[error("the solution is inconsistent: the solution matrices have a non-finite entry")]
+    NonFiniteSolution,
+    #[error("the solution is inconsistent: {variables} variables, but {steady_state} steady-state values and {log} log flags")]
+    SteadyStateLength {
+        variables: usize,
+        steady_state: usize,
+        log: usize,
+    },
     #[error(transparent)]
     Covariance(#[from] CovarianceError),
     #[error("{periods} periods of {variables} variables is more than {MAX_STORED_VALUES} values; ask for fewer periods")]
@@ -210,16 +218,18 @@ pub fn simulate(
         }
     };
     check_shapes(solved, ss).map_err(|e| match e {
-        MomentsError::Shape(s) => SimulateError::Solution(s),
-        other => SimulateError::Solution(other.to_string()),
+        MomentsError::Shape(s) => SimulateError::Shape(s),
+        _ => SimulateError::NonFiniteSolution,
     })?;
     let ny = solved.variables.len();
     let ne = solved.shocks.len();
     let ns = ss.g.nrows();
     if solved.steady_state.len() != ny || solved.log.len() != ny {
-        return Err(SimulateError::Solution(
-            "the steady state or the log flags do not match the variables".into(),
-        ));
+        return Err(SimulateError::SteadyStateLength {
+            variables: ny,
+            steady_state: solved.steady_state.len(),
+            log: solved.log.len(),
+        });
     }
     if settings.periods.saturating_mul(ny.max(1)) > MAX_STORED_VALUES {
         return Err(SimulateError::TooLarge {

@@ -19,13 +19,31 @@ use rayon::prelude::*;
 use thiserror::Error;
 
 use crate::model::Model;
-use crate::solution::{PreparedModel, SolveOptions, SolvedModel};
+use crate::solution::{PreparedModel, SolveOptions, SolvedModel, Status};
 
 /// Largest number of grid points (a CSV of a million rows is already about 80 MB).
 pub const MAX_SWEEP_POINTS: usize = 1_000_000;
 
 /// The status written for a point that failed for a reason other than the conditions.
 pub const ERROR_STATUS: &str = "error";
+
+/// The outcome at one grid point: a solution status of the contract, or a failure for another
+/// reason (`error`, with a message).
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum SweepStatus {
+    Solved(Status),
+    Error,
+}
+
+impl SweepStatus {
+    /// The contract's spelling (`determinate`, ..., `error`).
+    pub fn as_str(self) -> &'static str {
+        match self {
+            SweepStatus::Solved(s) => s.as_str(),
+            SweepStatus::Error => ERROR_STATUS,
+        }
+    }
+}
 
 /// One varied parameter and its values.
 #[derive(Debug, Clone, PartialEq)]
@@ -40,7 +58,7 @@ pub struct SweepPoint {
     /// The varied parameters' values, in axis order.
     pub values: Vec<f64>,
     /// A contract status (`determinate`, ...) or `error`.
-    pub status: String,
+    pub status: SweepStatus,
     pub unstable: Option<usize>,
     pub forward_looking: Option<usize>,
     /// Largest modulus among the stable roots (`None` when no root is stable or on error).
@@ -62,12 +80,12 @@ pub struct SweepResult {
 
 impl SweepResult {
     /// How many points have each status, in first-seen order.
-    pub fn status_counts(&self) -> Vec<(String, usize)> {
-        let mut out: Vec<(String, usize)> = Vec::new();
+    pub fn status_counts(&self) -> Vec<(SweepStatus, usize)> {
+        let mut out: Vec<(SweepStatus, usize)> = Vec::new();
         for p in &self.points {
             match out.iter_mut().find(|(s, _)| *s == p.status) {
                 Some((_, n)) => *n += 1,
-                None => out.push((p.status.clone(), 1)),
+                None => out.push((p.status, 1)),
             }
         }
         out
@@ -139,7 +157,7 @@ pub fn point_from_solved(values: Vec<f64>, solved: &SolvedModel) -> SweepPoint {
         .fold(None, |m: Option<f64>, x| Some(m.map_or(x, |m| m.max(x))));
     SweepPoint {
         values,
-        status: solved.status.as_str().to_string(),
+        status: SweepStatus::Solved(solved.status),
         unstable: Some(solved.counts.unstable),
         forward_looking: Some(solved.counts.forward_looking),
         largest_stable_modulus: largest,
@@ -152,7 +170,7 @@ pub fn point_from_solved(values: Vec<f64>, solved: &SolvedModel) -> SweepPoint {
 pub fn error_point(values: Vec<f64>, message: impl Into<String>) -> SweepPoint {
     SweepPoint {
         values,
-        status: ERROR_STATUS.to_string(),
+        status: SweepStatus::Error,
         unstable: None,
         forward_looking: None,
         largest_stable_modulus: None,

@@ -116,6 +116,18 @@ pub fn provenance(
     )
 }
 
+/// The command-line wording the library leaves out: when some root lies on the threshold, the
+/// flag that counts it the other way. Appends to `solved.warnings`.
+fn add_boundary_hint(solved: &mut saddle::solution::SolvedModel, settings: &SolveSettings) {
+    if solved.roots.iter().any(|r| r.boundary) {
+        solved.warnings.push(if settings.boundary_stable {
+            "to count roots on the threshold as unstable, use --boundary-unstable".to_string()
+        } else {
+            "to count roots on the threshold as stable, drop --boundary-unstable".to_string()
+        });
+    }
+}
+
 /// Reads `file`, applies the settings' overrides and solves.
 pub fn load_and_solve(file: &Path, settings: &SolveSettings) -> Result<Solved, Failure> {
     let t0 = Instant::now();
@@ -132,6 +144,8 @@ pub fn load_and_solve(file: &Path, settings: &SolveSettings) -> Result<Solved, F
             &PolicyParams::default(),
         )
         .map_err(policy_failure)?;
+        let mut r = r;
+        add_boundary_hint(&mut r.solved, settings);
         // The optimal regimes run their own pipeline; its whole time is reported as `solution`.
         let timings = Timings {
             solution: t1.elapsed(),
@@ -152,9 +166,10 @@ pub fn load_and_solve(file: &Path, settings: &SolveSettings) -> Result<Solved, F
         });
     }
     let prepared = PreparedModel::new(&model).map_err(failure)?;
-    let (solved, timings) = prepared
+    let (mut solved, timings) = prepared
         .solve(&model, &options(settings))
         .map_err(failure)?;
+    add_boundary_hint(&mut solved, settings);
     let policy = if model.objective.is_some() {
         Some(PolicyInfo {
             regime: Regime::Rule,

@@ -15,12 +15,12 @@ use super::output::{emit, eprintln_quiet};
 use super::solve::{apply_overrides, failure, options};
 use super::{Failure, Outcome};
 use saddle::analysis::sweep::{
-    error_point, point_from_solved, run_sweep, sweep_model, SweepAxis, SweepError,
+    error_point, point_from_solved, run_sweep, sweep_model, SweepAxis, SweepError, SweepStatus,
 };
 use saddle::output::svg::charts;
 use saddle::output::sweep as render;
 use saddle::policy::{rule_expected_loss, solve_regime, PolicyError, PolicyParams, Regime};
-use saddle::solution::PreparedModel;
+use saddle::solution::{PreparedModel, Status};
 
 /// The bar appears only once a sweep has run this long (a short sweep stays silent).
 const PROGRESS_DELAY: Duration = Duration::from_millis(400);
@@ -133,7 +133,7 @@ pub fn run(args: SweepArgs) -> Result<Outcome, Failure> {
                     }
                     Err(e @ PolicyError::DiscretionUnstable { .. }) => {
                         let mut p = error_point(values.to_vec(), e.to_string());
-                        p.status = "no_stable_solution".into();
+                        p.status = SweepStatus::Solved(Status::NoStableSolution);
                         p
                     }
                     Err(e) => error_point(values.to_vec(), e.to_string()),
@@ -191,7 +191,11 @@ pub fn run(args: SweepArgs) -> Result<Outcome, Failure> {
                 &title,
                 &result.parameters,
                 &result.axes,
-                result.points.iter().map(|p| p.status.clone()).collect(),
+                result
+                    .points
+                    .iter()
+                    .map(|p| p.status.as_str().to_string())
+                    .collect(),
                 &source,
             )
         }

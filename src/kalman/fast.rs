@@ -23,6 +23,7 @@ use nalgebra::{DMatrix, DVector};
 use super::filter::{filter_with, HALF_LOG_2PI};
 use super::init::initial_state;
 use super::{KalmanError, KalmanParams, StateSpaceModel};
+use crate::linalg::{cholesky_in_place, cholesky_solve};
 
 /// The exact log-likelihood of `y` (N x p, NaN = missing) under `model` (both read only), with
 /// the conventions of the module doc of [`super`]. Returns it, or the filter's error.
@@ -43,56 +44,9 @@ pub fn loglik(
     Ok(filter_with(model, y, params, false)?.loglik)
 }
 
-/// In-place Cholesky of the symmetric `a` (lower triangle used and overwritten with L). Returns
-/// log det a, or `None` when a pivot is not positive (relative to the largest diagonal entry,
-/// 1e-13: below it the matrix is singular to working precision).
-fn cholesky_in_place(a: &mut DMatrix<f64>) -> Option<f64> {
-    let n = a.nrows();
-    let scale = (0..n).map(|i| a[(i, i)].abs()).fold(0.0, f64::max);
-    let mut logdet = 0.0;
-    for j in 0..n {
-        let mut d = a[(j, j)];
-        for k in 0..j {
-            d -= a[(j, k)] * a[(j, k)];
-        }
-        if !(d > 1e-13 * scale) {
-            return None;
-        }
-        let l = d.sqrt();
-        a[(j, j)] = l;
-        logdet += 2.0 * l.ln();
-        for i in (j + 1)..n {
-            let mut s = a[(i, j)];
-            for k in 0..j {
-                s -= a[(i, k)] * a[(j, k)];
-            }
-            a[(i, j)] = s / l;
-        }
-    }
-    Some(logdet)
-}
-
-/// Overwrites each column of `b` with L^{-T} L^{-1} column (solves (L L') x = b), L the lower
-/// triangle of `l`.
-fn cholesky_solve(l: &DMatrix<f64>, b: &mut DMatrix<f64>) {
-    let n = l.nrows();
-    for c in 0..b.ncols() {
-        for i in 0..n {
-            let mut s = b[(i, c)];
-            for k in 0..i {
-                s -= l[(i, k)] * b[(k, c)];
-            }
-            b[(i, c)] = s / l[(i, i)];
-        }
-        for i in (0..n).rev() {
-            let mut s = b[(i, c)];
-            for k in (i + 1)..n {
-                s -= l[(k, i)] * b[(k, c)];
-            }
-            b[(i, c)] = s / l[(i, i)];
-        }
-    }
-}
+/// Smallest accepted Cholesky pivot of F_t relative to its largest diagonal entry: below 1e-13
+/// the matrix is singular to working precision and the univariate filter takes over.
+const PIVOT_TOL: f64 = 1e-13;
 
 /// The Chandrasekhar recursions of the module doc from P_1 = `sigma`. Returns `None` when some
 /// F_t is not numerically positive definite (the caller then uses the univariate filter).
@@ -108,7 +62,7 @@ fn chandrasekhar(model: &StateSpaceModel, y: &DMatrix<f64>, sigma: &DMatrix<f64>
     let mut k = t * &pz; // K_1 = T Sigma Z'
     let mut w = k.clone(); // W_1
     let mut fl = f.clone();
-    let mut logdet = cholesky_in_place(&mut fl)?;
+    let mut logdet = cholesky_in_place(&mut fl, PIVOT_TOL)?;
     // M_1 = -F_1^{-1}
     let mut m = -DMatrix::<f64>::identity(p, p);
     cholesky_solve(&fl, &mut m);
@@ -169,7 +123,7 @@ fn chandrasekhar(model: &StateSpaceModel, y: &DMatrix<f64>, sigma: &DMatrix<f64>
             }
         }
         fl_next.copy_from(&f);
-        logdet = cholesky_in_place(&mut fl_next)?;
+        logdet = cholesky_in_place(&mut fl_next, PIVOT_TOL)?;
         std::mem::swap(&mut fl, &mut fl_next);
         // M_{t+1} = M - (ZW M)' F_{t+1}^{-1} (ZW M)
         g.copy_from(&zwm);

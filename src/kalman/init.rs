@@ -16,9 +16,9 @@
 use nalgebra::DMatrix;
 
 use super::{KalmanError, KalmanParams, StateSpaceModel};
-use crate::analysis::lyapunov::{
+use crate::linalg::{
     cmul, relative_residual, solve_discrete_lyapunov, solve_triangular_stein,
-    solve_with_real_schur, ComplexSchur, LyapunovError, RealSchur, C64, RESIDUAL_TOL,
+    solve_with_real_schur, to_complex, ComplexSchur, LyapunovError, RealSchur, RESIDUAL_TOL,
 };
 
 /// The distribution of alpha_0 (mean zero).
@@ -81,7 +81,7 @@ pub fn initial_state(
     let p_inf = (&p_inf + p_inf.transpose()) * 0.5;
     let p_star = if m < n {
         let s22 = schur.t.view((m, m), (n - m, n - m)).into_owned();
-        let wc = w.map(|v| C64::new(v, 0.0));
+        let wc = to_complex(&w);
         let c = cmul(&cmul(&u2.adjoint(), &wc), &u2);
         let x22 = solve_triangular_stein(&s22, &c).map_err(KalmanError::Lyapunov)?;
         let x = cmul(&cmul(&u2, &x22), &u2.adjoint()).map(|z| z.re);

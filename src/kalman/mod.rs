@@ -15,7 +15,7 @@
 //!   a unit root, a diffuse component (variance kappa P_inf0, kappa -> infinity). With a stable T
 //!   this makes alpha_1 ~ N(0, Sigma) with Sigma = T Sigma T' + R Q R', the usual stationary start
 //!   (Hamilton 1994, ch. 13). The stationary covariance comes from the Lyapunov solver of
-//!   [`crate::analysis::lyapunov`]; the diffuse part from a reordered complex Schur form of T
+//!   [`crate::linalg::lyapunov`]; the diffuse part from a reordered complex Schur form of T
 //!   ([`init`]).
 //! - The filter treats the observations of a period one at a time (Durbin and Koopman 2012,
 //!   sec. 6.4, "univariate treatment"); a correlated Hm is first diagonalised period by period by
@@ -55,7 +55,7 @@ mod tests;
 use nalgebra::{DMatrix, DVector};
 use thiserror::Error;
 
-use crate::analysis::lyapunov::LyapunovError;
+use crate::linalg::lyapunov::LyapunovError;
 
 pub use fast::loglik;
 pub use filter::{filter, FilterOutput};

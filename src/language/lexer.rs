@@ -703,7 +703,7 @@ impl<'a> Lexer<'a> {
                     if self.brackets.len() >= MAX_BRACKET_DEPTH {
                         self.diagnostics.push(
                             Diagnostic::error(
-                                "too-deep",
+                                "brackets-too-deep",
                                 format!("brackets nested more than {MAX_BRACKET_DEPTH} deep"),
                                 span,
                                 "too deep here",
@@ -818,7 +818,7 @@ mod tests {
         let mut lx = Lexer::new(&src);
         let n = lx.by_ref().count();
         assert!(n < 1000);
-        assert_eq!(lx.diagnostics[0].code, "too-deep");
+        assert_eq!(lx.diagnostics[0].code, "brackets-too-deep");
     }
 
     #[test]

@@ -83,7 +83,7 @@ impl<'input> ParseContext<'input> {
         if depth as usize > MAX_EXPR_DEPTH {
             self.diagnostics.push(
                 Diagnostic::error(
-                    "too-deep",
+                    "expression-too-deep",
                     format!("expression nested more than {MAX_EXPR_DEPTH} levels deep"),
                     span,
                     "this expression",

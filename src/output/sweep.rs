@@ -31,7 +31,7 @@ pub fn to_csv_with(r: &SweepResult, loss: bool) -> String {
     csv::record(&mut out, &header);
     for p in &r.points {
         let mut cells: Vec<String> = p.values.iter().map(|v| csv::number(*v)).collect();
-        cells.push(p.status.clone());
+        cells.push(p.status.as_str().to_string());
         cells.push(p.unstable.map_or(String::new(), |n| n.to_string()));
         cells.push(p.forward_looking.map_or(String::new(), |n| n.to_string()));
         cells.push(p.largest_stable_modulus.map_or(String::new(), csv::number));
@@ -51,7 +51,7 @@ fn row_json(parameters: &[String], p: &SweepPoint, loss: bool) -> Json {
         .zip(&p.values)
         .map(|(n, v)| (n.clone(), Json::Number(*v)))
         .collect();
-    fields.push(("status".into(), Json::String(p.status.clone())));
+    fields.push(("status".into(), Json::String(p.status.as_str().to_string())));
     let int = |x: Option<usize>| x.map_or(Json::Null, |n| Json::Integer(n as i64));
     fields.push(("unstable".into(), int(p.unstable)));
     fields.push(("forward_looking".into(), int(p.forward_looking)));
@@ -107,7 +107,7 @@ pub fn to_text(r: &SweepResult) -> String {
     );
     let mut t = Table::new(&["status", "points"], &[Align::Left, Align::Right]);
     for (s, n) in r.status_counts() {
-        t.row(vec![s, n.to_string()]);
+        t.row(vec![s.as_str().to_string(), n.to_string()]);
     }
     out.push_str(&t.render());
     if r.parameters.len() == 1 {
@@ -143,7 +143,7 @@ pub fn to_text(r: &SweepResult) -> String {
                     number(a.values[0], 4),
                     "..".into(),
                     number(b.values[0], 4),
-                    a.status.clone(),
+                    a.status.as_str().to_string(),
                     a.unstable.map_or("-".into(), |n| n.to_string()),
                     a.forward_looking.map_or("-".into(), |n| n.to_string()),
                 ]);
@@ -164,7 +164,7 @@ pub fn to_text(r: &SweepResult) -> String {
         ));
         for i in 0..n0 {
             let line: String = (0..n1)
-                .map(|j| letter(&r.points[i * n1 + j].status))
+                .map(|j| letter(r.points[i * n1 + j].status.as_str()))
                 .collect();
             out.push_str(&line);
             out.push('\n');

@@ -28,7 +28,7 @@ mod tests;
 
 use nalgebra::DMatrix;
 
-use crate::analysis::lyapunov::solve_discrete_lyapunov;
+use crate::linalg::solve_discrete_lyapunov;
 use crate::linear::{linearize, LinearSystem};
 use crate::model::{Model, SteadyKind};
 use crate::solution::{PreparedModel, SolveError, SolveOptions, SolvedModel, StateSpace};

@@ -52,8 +52,8 @@ pub use error::QzError;
 use nalgebra::DMatrix;
 use rotation::Entry;
 
-/// Complex double-precision scalar used for all factors.
-pub type C64 = nalgebra::Complex<f64>;
+/// Complex double-precision scalar used for all factors (the crate's one, from `linalg`).
+pub use crate::linalg::C64;
 
 /// Machine epsilon 2^-52, the unit of every relative tolerance here (common practice).
 const EPS: f64 = f64::EPSILON;

@@ -45,32 +45,41 @@ fn undo_2x2(m: &mut [C64; 4], gz: Rotation<C64>, gq: Rotation<C64>) {
     super::rotation::rotate_pair(x, y, gz.inverse());
 }
 
+/// Makes `T[j, j]` real and non-negative by a unimodular scaling of column j of the upper
+/// triangular S (rows 0..=j), T (rows 0..=j) and of Z (all rows), all n x n column-major: an
+/// exact-in-exact-arithmetic unitary equivalence. A `T[j, j]` of modulus at most the smallest
+/// normal number becomes an exact zero (an infinite eigenvalue); one already real and
+/// non-negative is left alone. The one definition for the reordering (and, once `iteration.rs`
+/// calls it, for the QZ iteration, whose `Work::normalize_beta` is the same scaling).
+pub(crate) fn normalize_beta(s: &mut [C64], t: &mut [C64], z: &mut [C64], n: usize, j: usize) {
+    let tjj = t[j * n + j];
+    let absb = tjj.modulus();
+    if absb > f64::MIN_POSITIVE && (tjj.im != 0.0 || tjj.re < 0.0) {
+        let sign = tjj.conj().unscale(absb);
+        for x in &mut t[j * n..j * n + j] {
+            *x *= sign;
+        }
+        t[j * n + j] = C64::new(absb, 0.0);
+        for x in &mut s[j * n..j * n + j + 1] {
+            *x *= sign;
+        }
+        for x in &mut z[j * n..(j + 1) * n] {
+            *x *= sign;
+        }
+    } else if absb <= f64::MIN_POSITIVE {
+        t[j * n + j] = C64::new(0.0, 0.0);
+    }
+}
+
 impl Factors<'_> {
     #[inline]
     fn at(m: &[C64], n: usize, i: usize, j: usize) -> C64 {
         m[i + j * n]
     }
 
-    /// Makes `T[j, j]` real and non-negative by a unimodular scaling of column j of S, T and Z.
+    /// Makes `T[j, j]` real and non-negative (see [`normalize_beta`]).
     pub fn normalize_beta(&mut self, j: usize) {
-        let n = self.n;
-        let tjj = self.t[j * n + j];
-        let absb = tjj.modulus();
-        if absb > f64::MIN_POSITIVE && (tjj.im != 0.0 || tjj.re < 0.0) {
-            let sign = tjj.conj().unscale(absb);
-            for x in &mut self.t[j * n..j * n + j] {
-                *x *= sign;
-            }
-            self.t[j * n + j] = C64::new(absb, 0.0);
-            for x in &mut self.s[j * n..j * n + j + 1] {
-                *x *= sign;
-            }
-            for x in &mut self.z[j * n..(j + 1) * n] {
-                *x *= sign;
-            }
-        } else if absb <= f64::MIN_POSITIVE {
-            self.t[j * n + j] = C64::new(0.0, 0.0);
-        }
+        normalize_beta(self.s, self.t, self.z, self.n, j);
     }
 
     /// Swaps the diagonal entries j and j+1 (see the module doc). Overwrites S, T, Q, Z on

@@ -107,7 +107,8 @@ pub mod threshold;
 
 pub use diagnosis::describe_root;
 pub use solve::{
-    solve, PreparedModel, SolveDetails, SolveError, SolveOptions, ThresholdSetting, Timings,
+    solve, NumericalFailure, PreparedModel, SolveDetails, SolveError, SolveOptions,
+    ThresholdSetting, Timings,
 };
 
 #[cfg(test)]

@@ -27,10 +27,11 @@ use super::{Counts, Root, SolvedModel, StateSpace, Status};
 use crate::canonical::{
     build_pencil, CanonicalError, Layout, Pencil, StateElement, StaticTreatment,
 };
+use crate::linalg::{cmul, spectral_norm_estimate, to_complex};
 use crate::linear::balance::{scaled, Scaling};
 use crate::linear::{linearize, LinearError, LinearSystem};
 use crate::model::{timing, Model};
-use crate::qz::{GeneralizedSchur, QzError, C64};
+use crate::qz::{root_position, GeneralizedSchur, QzError, RootPosition, C64};
 use crate::steady::{solve_steady, SteadyError};
 use crate::symbolic::CompiledModel;
 
@@ -152,8 +153,12 @@ pub enum SolveError {
     BadThreshold { value: f64, source_desc: String },
     #[error("the model given to solve does not have the structure that was prepared ({0}); prepare it again")]
     StructureMismatch(String),
-    #[error("the linearized system is singular: det(B - zA) vanishes for every z, so the equations do not determine the variables (an equation may repeat another, or a variable may drop out at the steady state). Check the equations that involve {involved}")]
-    SingularPencil { involved: String },
+    #[error("the linearized system is singular: det(B - zA) vanishes for every z, so the equations do not determine the variables (an equation may repeat another, or a variable may drop out at the steady state). Check the equations that involve {}", absent_text(.absent))]
+    SingularPencil {
+        /// The variables no equation depends on at the steady state (the usual culprits); empty
+        /// when none stands out.
+        absent: Vec<String>,
+    },
     #[error("{what} is {size}, above saddle's limit of {limit} for its dense solver")]
     TooLarge {
         what: &'static str,
@@ -163,7 +168,33 @@ pub enum SolveError {
     #[error("the QZ decomposition failed: {0}")]
     Qz(QzError),
     #[error("the solution could not be computed: {0}")]
-    Numerical(String),
+    Numerical(NumericalFailure),
+}
+
+/// The wording of [`SolveError::SingularPencil`]'s variables.
+fn absent_text(absent: &[String]) -> String {
+    if absent.is_empty() {
+        "every variable (no single one stands out)".to_string()
+    } else {
+        format!(
+            "{} (no equation depends on it at the steady state)",
+            absent.join(", ")
+        )
+    }
+}
+
+/// Which step of the decision-rule formulas failed (module doc).
+#[derive(Debug, Clone, Copy, PartialEq, Eq, thiserror::Error)]
+pub enum NumericalFailure {
+    #[error("the unstable block of the Schur form is singular")]
+    UnstableBlockSingular,
+    #[error("the stable block of T is singular")]
+    StableBlockSingular,
+    #[error("the static block is singular")]
+    StaticBlockSingular,
+    /// `variable` (0-based, declaration order) has no place in the canonical form.
+    #[error("variable #{} has no place in the canonical form", .variable + 1)]
+    Unplaced { variable: usize },
 }
 
 /// Everything about a model's structure that solving needs, computed once.
@@ -372,9 +403,9 @@ impl PreparedModel {
                 super::threshold::show(tau),
                 if r.stable { "stable" } else { "unstable" },
                 if boundary_stable {
-                    "use --boundary-unstable to count it the other way"
+                    "roots on the boundary count as stable by default"
                 } else {
-                    "as asked by --boundary-unstable"
+                    "roots on the boundary are counted as unstable, as asked"
                 }
             ));
         }
@@ -518,18 +549,18 @@ pub fn threshold(model: &Model, setting: ThresholdSetting) -> Result<f64, SolveE
     }
 }
 
-/// Whether |alpha/beta| counts as stable against `tau` (without forming the ratio).
+/// Whether |alpha/beta| counts as stable against `tau` (without forming the ratio): an infinite
+/// root (|alpha| > [`INFINITE_MODULUS`] |beta|) never; a root in the [`BOUNDARY_TOL`] band of
+/// [`root_position`] as `boundary_stable` says.
 pub fn is_stable(alpha: C64, beta: C64, tau: f64, boundary_stable: bool) -> bool {
-    let a = alpha.norm();
-    let b = beta.norm();
-    if a > INFINITE_MODULUS * b {
+    if alpha.norm() > INFINITE_MODULUS * beta.norm() {
         return false;
     }
-    let limit = tau * b;
-    if (a - limit).abs() <= BOUNDARY_TOL * a.max(limit) {
-        return boundary_stable;
+    match root_position(alpha, beta, tau, BOUNDARY_TOL) {
+        RootPosition::Inside => true,
+        RootPosition::Boundary => boundary_stable,
+        RootPosition::Outside => false,
     }
-    a < limit
 }
 
 /// The roots by increasing modulus, infinite ones last.
@@ -564,7 +595,8 @@ fn roots_table(pairs: &[(C64, C64)], tau: f64, boundary_stable: bool) -> Vec<Roo
                     modulus: Some(modulus),
                     infinite: false,
                     stable,
-                    boundary: (modulus - tau).abs() <= BOUNDARY_TOL * modulus.max(tau),
+                    boundary: root_position(lambda, C64::new(1.0, 0.0), tau, BOUNDARY_TOL)
+                        == RootPosition::Boundary,
                 }
             }
         })
@@ -586,19 +618,11 @@ fn qz_error(e: QzError, model: &Model, linear: &LinearSystem) -> SolveError {
             vars.sort();
             vars.dedup();
             // Variables that no equation moves at the steady state are the usual culprits.
-            let absent: Vec<&str> = (0..model.endogenous.len())
+            let absent: Vec<String> = (0..model.endogenous.len())
                 .filter(|j| !vars.contains(j))
-                .map(|j| model.endogenous[j].name.as_str())
+                .map(|j| model.endogenous[j].name.clone())
                 .collect();
-            let involved = if absent.is_empty() {
-                "every variable (no single one stands out)".to_string()
-            } else {
-                format!(
-                    "{} (no equation depends on it at the steady state)",
-                    absent.join(", ")
-                )
-            };
-            SolveError::SingularPencil { involved }
+            SolveError::SingularPencil { absent }
         }
         other => SolveError::Qz(other),
     }
@@ -618,45 +642,11 @@ enum RuleOutcome {
     },
 }
 
-fn cplx(m: &DMatrix<f64>) -> DMatrix<C64> {
-    m.map(|x| C64::new(x, 0.0))
-}
-
 /// Largest block for which the rank condition uses an exact SVD.
 const SVD_LIMIT: usize = 60;
 /// Power-iteration steps for the 2-norm estimate (convergence is geometric in the ratio of the two
 /// largest singular values; 30 steps leave an error of a few percent in the worst common cases).
 const POWER_STEPS: usize = 30;
-
-/// An estimate (from below) of the spectral norm of `w` by power iteration on W^H W, started from
-/// the vector of ones. Returns the estimate.
-fn inverse_norm_estimate(w: &DMatrix<C64>) -> f64 {
-    let n = w.ncols();
-    let mut v = nalgebra::DVector::<C64>::from_element(n, C64::new(1.0 / (n as f64).sqrt(), 0.0));
-    let wh = w.adjoint();
-    let mut est = 0.0;
-    for _ in 0..POWER_STEPS {
-        let u = w * &v;
-        let z = &wh * &u;
-        let nz = z.norm();
-        if !(nz.is_finite()) || nz == 0.0 {
-            return if nz == 0.0 { est } else { f64::INFINITY };
-        }
-        est = nz.sqrt();
-        v = z / C64::new(nz, 0.0);
-    }
-    est
-}
-
-/// The complex product a b through four real products (the real kernel is blocked and much
-/// faster than the generic complex one). Returns a new matrix.
-fn cmul(a: &DMatrix<C64>, b: &DMatrix<C64>) -> DMatrix<C64> {
-    let (ar, ai) = (a.map(|v| v.re), a.map(|v| v.im));
-    let (br, bi) = (b.map(|v| v.re), b.map(|v| v.im));
-    let re = &ar * &br - &ai * &bi;
-    let im = &ar * &bi + &ai * &br;
-    re.zip_map(&im, C64::new)
-}
 
 /// Solves `lhs * X = rhs` by LU; `None` if `lhs` is singular.
 fn solve_left(lhs: DMatrix<C64>, rhs: &DMatrix<C64>) -> Option<DMatrix<C64>> {
@@ -713,12 +703,12 @@ fn decision_rule(
     };
     let nu = dim - ns;
     let (q, z, s, t) = (schur.q(), schur.z(), schur.s(), schur.t());
-    let qc = cmul(&q.adjoint(), &cplx(&pencil.c));
+    let qc = cmul(&q.adjoint(), &to_complex(&pencil.c));
     let s22 = s.view((ns, ns), (nu, nu)).into_owned();
     let qc2 = qc.rows(ns, nu).into_owned();
-    let m2 = -solve_left(s22, &qc2).ok_or_else(|| {
-        SolveError::Numerical("the unstable block of the Schur form is singular".into())
-    })?;
+    let m2 = -solve_left(s22, &qc2).ok_or(SolveError::Numerical(
+        NumericalFailure::UnstableBlockSingular,
+    ))?;
     let zk1 = z.view((0, 0), (nk, ns)).into_owned();
     let zk2 = z.view((0, ns), (nk, nu)).into_owned();
     let zx1 = z.view((nk, 0), (nx, ns)).into_owned();
@@ -739,7 +729,7 @@ fn decision_rule(
                 .copied()
                 .fold(f64::INFINITY, f64::min)
         } else {
-            1.0 / inverse_norm_estimate(&w)
+            1.0 / spectral_norm_estimate(&w, POWER_STEPS)
         };
         if sigma.is_nan() || sigma < RANK_TOL {
             return Ok(RuleOutcome::RankFailure { sigma });
@@ -755,9 +745,9 @@ fn decision_rule(
     let inner_k = cmul(&s11, &w);
     let inner_e = cmul(&s12, &m2) + qc1 - cmul(&s11, &wzm);
     let tk = solve_left(t11.clone(), &inner_k)
-        .ok_or_else(|| SolveError::Numerical("the stable block of T is singular".into()))?;
+        .ok_or(SolveError::Numerical(NumericalFailure::StableBlockSingular))?;
     let te = solve_left(t11, &inner_e)
-        .ok_or_else(|| SolveError::Numerical("the stable block of T is singular".into()))?;
+        .ok_or(SolveError::Numerical(NumericalFailure::StableBlockSingular))?;
     let gk = cmul(&zk1, &tk);
     let hk = cmul(&zk1, &te);
     let (n, i1) = real_part(&n);
@@ -825,7 +815,7 @@ fn state_space(
             st.r.clone()
                 .lu()
                 .solve(&(-rhs))
-                .ok_or_else(|| SolveError::Numerical("the static block is singular".into()))?;
+                .ok_or(SolveError::Numerical(NumericalFailure::StaticBlockSingular))?;
         for (c, &j) in st.variables.iter().enumerate() {
             p.row_mut(j).copy_from(&ys.view((c, 0), (1, nk)));
             qm.row_mut(j).copy_from(&ys.view((c, nk), (1, ne)));
@@ -833,10 +823,9 @@ fn state_space(
         }
     }
     if let Some(j) = done.iter().position(|d| !d) {
-        return Err(SolveError::Numerical(format!(
-            "variable #{} has no place in the canonical form",
-            j + 1
-        )));
+        return Err(SolveError::Numerical(NumericalFailure::Unplaced {
+            variable: j,
+        }));
     }
     let mut g = gk.clone();
     let mut h = hk.clone();

@@ -101,13 +101,32 @@ fn known_values_are_checked_and_failures_named() {
     let err = solve_steady(&m, &c, &[2.0]).unwrap_err();
     let msg = err.to_string();
     assert!(
-        matches!(err, SteadyError::KnownValuesInconsistent(_)),
+        matches!(err, SteadyError::KnownValuesInconsistent { .. }),
         "{msg}"
     );
     assert!(
         msg.contains("triple") && !msg.contains("equation 1 "),
         "{msg}"
     );
+    // The error carries the worst equation as data: y = x + 1 = 3 against 3 x = 6, residual 3.
+    let SteadyError::KnownValuesInconsistent { worst, detail } = &err else {
+        unreachable!()
+    };
+    assert_eq!(worst.0[0].equation, "triple");
+    assert_eq!(worst.0[0].variables, ["x", "y"]);
+    assert!((worst.0[0].residual.abs() - 3.0).abs() < 1e-12, "{worst:?}");
+    // A solve for every variable lands on y = 6 where `steady` gives 3.
+    match detail {
+        KnownValuesDetail::Differ(c) => {
+            assert_eq!(c.len(), 1, "{c:?}");
+            assert_eq!(c[0].variable, "y");
+            assert!(
+                (c[0].solved - 6.0).abs() < 1e-9 && c[0].given == 3.0,
+                "{c:?}"
+            );
+        }
+        other => panic!("expected the conflicting values, got {other:?}"),
+    }
     // With the right value (depending on x's, listed after it: order-free), it passes.
     m.steady[1].expr = mul(n(3.0), Expr::SteadyState(0));
     m.steady.swap(0, 1);
@@ -159,6 +178,12 @@ fn singular_jacobian_is_reported_with_the_variables() {
         msg.contains("pin down x, y") || msg.contains("pin down y, x"),
         "{msg}"
     );
+    let SteadyError::Singular(report) = &err else {
+        unreachable!()
+    };
+    let mut free = report.undetermined.clone();
+    free.sort();
+    assert_eq!(free, ["x", "y"]);
 }
 
 #[test]
@@ -294,7 +319,7 @@ fn inconsistent_partial_values_are_blamed_on_the_values() {
     let c = CompiledModel::new(&m);
     let err = solve_steady(&m, &c, &[]).unwrap_err();
     assert!(
-        matches!(err, SteadyError::KnownValuesInconsistent(_)),
+        matches!(err, SteadyError::KnownValuesInconsistent { .. }),
         "{err}"
     );
     // Consistent partial values: the rest is solved.
@@ -382,4 +407,23 @@ fn a_parameter_outside_a_domain_is_blamed_not_the_guess() {
         }
         other => panic!("{other:?}"),
     }
+}
+
+#[test]
+fn newton_params_bound_the_iterations() {
+    let m = growth_model();
+    let c = CompiledModel::new(&m);
+    let params: Vec<f64> = m.parameters.iter().map(|p| p.value).collect();
+    let free = solve_steady(&m, &c, &params).unwrap();
+    assert!(free.iterations > 1, "{free:?}");
+    // One iteration cannot reach the nonlinear steady state from the default guesses.
+    let tight = NewtonParams::default().with_max_iterations(1);
+    match solve_steady_with(&m, &c, &params, &tight) {
+        Err(SteadyError::NotFound { iterations: 1, .. }) => {}
+        other => panic!("expected NotFound after 1 iteration, got {other:?}"),
+    }
+    // A generous limit gives the same answer as the default.
+    let loose = NewtonParams::default().with_max_iterations(2 * MAX_NEWTON_ITERATIONS);
+    let again = solve_steady_with(&m, &c, &params, &loose).unwrap();
+    assert_eq!(again.values, free.values);
 }

@@ -160,7 +160,7 @@ fn options_are_kept_as_expressions_and_horizon_as_a_count() {
         "endogenous\n  x\nparameters\n  h = 3\nequations\n  x = 0\noptions\n  horizon = h\n",
     )
     .unwrap_err();
-    assert_eq!(d[0].code, "bad-option");
+    assert_eq!(d[0].code, "bad-horizon");
 }
 
 #[test]

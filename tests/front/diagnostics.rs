@@ -295,3 +295,71 @@ fn a_closed_stdout_pipe_ends_quietly() {
     assert!(!err.contains("panicked"), "{err}");
     assert_eq!(out.status.code(), Some(0), "{err}");
 }
+
+/// Every diagnostic code written in the library's source, with where: the string literal that
+/// follows `Diagnostic::error(`, `Diagnostic::warning(` or `report_unknown(` (whose first
+/// argument is the code), or is assigned to `.code`.
+fn codes_in_source() -> Vec<(String, String)> {
+    fn walk(dir: &Path, out: &mut Vec<PathBuf>) {
+        for e in std::fs::read_dir(dir).unwrap() {
+            let p = e.unwrap().path();
+            if p.is_dir() {
+                walk(&p, out);
+            } else if p.extension().is_some_and(|x| x == "rs") {
+                out.push(p);
+            }
+        }
+    }
+    let mut files = Vec::new();
+    walk(
+        &Path::new(env!("CARGO_MANIFEST_DIR")).join("src"),
+        &mut files,
+    );
+    let mut out = Vec::new();
+    for f in files {
+        let text = std::fs::read_to_string(&f).unwrap();
+        for marker in [
+            "Diagnostic::error(",
+            "Diagnostic::warning(",
+            "report_unknown(",
+            ".code = ",
+        ] {
+            let mut rest = text.as_str();
+            while let Some(i) = rest.find(marker) {
+                rest = &rest[i + marker.len()..];
+                let t = rest.trim_start();
+                if let Some(lit) = t.strip_prefix('"') {
+                    let code = &lit[..lit.find('"').unwrap()];
+                    out.push((code.to_string(), f.display().to_string()));
+                }
+            }
+        }
+    }
+    out
+}
+
+#[test]
+fn every_diagnostic_has_its_own_code() {
+    let codes = codes_in_source();
+    // The scan must see the codes it is meant to police (a broken scan would pass vacuously).
+    assert!(codes.len() > 80, "only {} codes found", codes.len());
+    for known in [
+        "unknown-control",
+        "unknown-steady-name",
+        "duplicate-name",
+        "unknown-name",
+        "syntax",
+        "expression-too-deep",
+    ] {
+        assert!(codes.iter().any(|(c, _)| c == known), "{known} not found");
+    }
+    let mut seen = std::collections::BTreeMap::<&str, Vec<&str>>::new();
+    for (c, f) in &codes {
+        seen.entry(c).or_default().push(f);
+    }
+    let repeated: Vec<_> = seen.iter().filter(|(_, f)| f.len() > 1).collect();
+    assert!(
+        repeated.is_empty(),
+        "codes used for more than one diagnostic: {repeated:?}"
+    );
+}

@@ -27,15 +27,15 @@ const HEAD: &str = "endogenous\n  x\nequations\n  x = ";
 fn two_hundred_thousand_nested_parentheses() {
     let n = 200_000;
     let src = format!("{HEAD}{}1{}\n", "(".repeat(n), ")".repeat(n));
-    assert_eq!(codes(&src), ["too-deep"]);
+    assert_eq!(codes(&src), ["brackets-too-deep"]);
     // Unclosed too.
     let src = format!("{HEAD}{}1\n", "(".repeat(n));
-    assert_eq!(codes(&src), ["too-deep"]);
+    assert_eq!(codes(&src), ["brackets-too-deep"]);
     // Square brackets the same way.
     // `x[[` is also a syntax error, reported beside the depth.
     let src = format!("{HEAD}x{}t\n", "[".repeat(n));
     let c = codes(&src);
-    assert!(c.contains(&"too-deep") && c.len() <= 2, "{c:?}");
+    assert!(c.contains(&"brackets-too-deep") && c.len() <= 2, "{c:?}");
 }
 
 #[test]
@@ -54,11 +54,11 @@ fn long_chains_within_the_line_limit_are_refused_by_depth() {
     // 40,000 terms of a sum (left-nested), a power tower (right-nested), unary minus signs,
     // all under the token limit of a statement.
     let sum = format!("{HEAD}{}x\n", "x + ".repeat(40_000));
-    assert_eq!(codes(&sum), ["too-deep"]);
+    assert_eq!(codes(&sum), ["expression-too-deep"]);
     let tower = format!("{HEAD}{}2\n", "2^".repeat(40_000));
-    assert_eq!(codes(&tower), ["too-deep"]);
+    assert_eq!(codes(&tower), ["expression-too-deep"]);
     let minus = format!("{HEAD}{}x\n", "-".repeat(60_000));
-    assert_eq!(codes(&minus), ["too-deep"]);
+    assert_eq!(codes(&minus), ["expression-too-deep"]);
     // Past the token limit of one statement (continued over many lines).
     let many = format!("{HEAD}{}x\n", "x +\n".repeat(150_000));
     let c = codes(&many);

@@ -2,10 +2,8 @@
 //! Kronecker-product Lyapunov solve, share identities, and unit-root handling.
 
 use nalgebra::DMatrix;
-use saddle::analysis::lyapunov::{
-    relative_residual, solve_discrete_lyapunov, LyapunovError, LyapunovMethod,
-};
 use saddle::analysis::moments::{covariance_factor, moments, CovarianceError, MomentsError};
+use saddle::linalg::{relative_residual, solve_discrete_lyapunov, LyapunovError, LyapunovMethod};
 use saddle::solution::{Counts, SolvedModel, StateSpace, Status};
 
 fn solved(
@@ -509,7 +507,7 @@ fn unit_root_path_agrees_with_the_stationary_path() {
 
 #[test]
 fn complex_schur_route_matches_kronecker() {
-    use saddle::analysis::lyapunov::{solve_with_schur, ComplexSchur};
+    use saddle::linalg::{solve_with_schur, ComplexSchur};
     for n in [2usize, 4, 7] {
         let g = stable(n, 300 + n as u64, 0.95);
         let b = lcg(n, n, 400 + n as u64, 1.0);
@@ -518,5 +516,59 @@ fn complex_schur_route_matches_kronecker() {
         let x = solve_with_schur(&s, &w).unwrap();
         let xk = kronecker_solve(&g, &w);
         assert!((&x - &xk).norm() / xk.norm() < 1e4 * f64::EPSILON * 10.3 * n as f64);
+    }
+}
+
+#[test]
+fn moments_fall_back_to_doubling_when_the_schur_form_fails() {
+    // A stable VAR(1) in 10 states with a dense transition matrix: with a budget of one QR sweep
+    // per dimension the real Schur form cannot converge, so the moments must come from doubling,
+    // and agree with the Schur route (both check their residual against 1e-9).
+    use saddle::analysis::moments::moments_with;
+    use saddle::linalg::LyapunovParams;
+    let ns = 10;
+    let mut seed = 11u64;
+    let mut next = || {
+        seed = seed
+            .wrapping_mul(6364136223846793005)
+            .wrapping_add(1442695040888963407);
+        ((seed >> 11) as f64) / (1u64 << 53) as f64 - 0.5
+    };
+    let g = DMatrix::from_fn(ns, ns, |_, _| next());
+    let radius = saddle::linalg::RealSchur::new(&g)
+        .unwrap()
+        .spectral_radius();
+    let g = g * (0.8 / radius);
+    let h = DMatrix::from_fn(ns, 2, |_, _| next());
+    let p = DMatrix::from_fn(3, ns, |_, _| next());
+    let q = DMatrix::from_fn(3, 2, |_, _| next());
+    let cov = DMatrix::from_row_slice(2, 2, &[1.0, 0.3, 0.3, 0.5]);
+    let sm = solved(&["a", "b", "c"], &["u", "v"], p, q, g, h, cov);
+    let schur = moments(&sm, 3, &[1, 4]).unwrap();
+    assert_eq!(schur.lyapunov_method, LyapunovMethod::Schur);
+    let tight = LyapunovParams::default().with_schur_sweeps_per_dim(1);
+    let fallback = moments_with(&sm, 3, &[1, 4], &tight).unwrap();
+    assert_eq!(fallback.lyapunov_method, LyapunovMethod::Doubling);
+    assert!(fallback.lyapunov_residual <= 1e-9);
+    // Radius 0.8: the condition number is about 1/(1 - 0.64) < 3, so the two routes agree to
+    // far better than 1e-9 relative.
+    let scale = schur.covariance.norm();
+    assert!((&fallback.covariance - &schur.covariance).norm() <= 1e-9 * scale);
+    for (a, b) in fallback.std.iter().zip(&schur.std) {
+        assert!((a.unwrap() - b.unwrap()).abs() <= 1e-9 * b.unwrap());
+    }
+    for (ra, rb) in fallback.autocorrelation.iter().zip(&schur.autocorrelation) {
+        for (a, b) in ra.iter().zip(rb) {
+            assert!((a - b).abs() <= 1e-9);
+        }
+    }
+    for (ra, rb) in fallback
+        .variance_decomposition
+        .iter()
+        .zip(&schur.variance_decomposition)
+    {
+        for (a, b) in ra.iter().zip(rb) {
+            assert!((a - b).abs() <= 1e-9);
+        }
     }
 }

@@ -4,8 +4,9 @@
 use std::sync::atomic::{AtomicUsize, Ordering};
 
 use saddle::analysis::sweep::{
-    check_axes, error_point, run_sweep, SweepAxis, SweepError, SweepPoint, ERROR_STATUS,
+    check_axes, error_point, run_sweep, SweepAxis, SweepError, SweepPoint, SweepStatus,
 };
+use saddle::solution::Status;
 
 fn axis(name: &str, values: Vec<f64>) -> SweepAxis {
     SweepAxis {
@@ -24,12 +25,11 @@ fn fake(values: &[f64]) -> SweepPoint {
     }
     SweepPoint {
         values: values.to_vec(),
-        status: if x > 1.0 {
-            "determinate"
+        status: SweepStatus::Solved(if x > 1.0 {
+            Status::Determinate
         } else {
-            "indeterminate"
-        }
-        .into(),
+            Status::Indeterminate
+        }),
         unstable: Some(1),
         forward_looking: Some(2),
         largest_stable_modulus: Some(x / 10.0),
@@ -61,18 +61,29 @@ fn bad_points_become_error_rows_and_the_sweep_goes_on() {
     }
     // The panicking points (a = -1) and the failing ones (a = 0.5) are error rows with messages.
     for p in &r.points[0..3] {
-        assert_eq!(p.status, ERROR_STATUS);
+        assert_eq!(p.status, SweepStatus::Error);
         assert!(p.message.as_deref().unwrap().contains("internal error"));
         assert_eq!(p.unstable, None);
     }
     for p in &r.points[6..9] {
-        assert_eq!(p.status, ERROR_STATUS);
+        assert_eq!(p.status, SweepStatus::Error);
         assert!(p.message.as_deref().unwrap().contains("steady state"));
     }
-    assert!(r.points[3..6].iter().all(|p| p.status == "indeterminate"));
-    assert!(r.points[9..12].iter().all(|p| p.status == "determinate"));
+    assert!(r.points[3..6]
+        .iter()
+        .all(|p| p.status == SweepStatus::Solved(Status::Indeterminate)));
+    assert!(r.points[9..12]
+        .iter()
+        .all(|p| p.status == SweepStatus::Solved(Status::Determinate)));
     let counts = r.status_counts();
-    assert_eq!(counts.iter().find(|(s, _)| s == "error").unwrap().1, 6);
+    assert_eq!(
+        counts
+            .iter()
+            .find(|(s, _)| *s == SweepStatus::Error)
+            .unwrap()
+            .1,
+        6
+    );
 }
 
 #[test]

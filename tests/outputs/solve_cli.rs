@@ -199,3 +199,27 @@ fn timings_go_to_stderr_and_output_files_are_written() {
         serde_json::from_str(&std::fs::read_to_string(&path).unwrap()).unwrap();
     assert_eq!(v["log_variables"].as_array().unwrap().len(), 4);
 }
+
+#[test]
+fn a_root_on_the_threshold_names_the_flag_that_counts_it_the_other_way() {
+    // rho = 1 puts a root exactly on the default threshold; the library's warning says how it
+    // was counted and the binary adds the flag (the library names no flag).
+    let f = temp_model(
+        "endogenous\n  p, m\nexogenous\n  e\nparameters\n  a = 0.9\n  rho = 1\nequations\n  \
+         price: p = a * p[t+1] + m\n  cost:  m = rho * m[t-1] + e\n",
+    );
+    let path = f.path().to_str().unwrap();
+    let o = saddle(&["solve", path, "--format", "json"]);
+    assert_eq!(code(&o), 0, "{}", text(&o.stderr));
+    let v: serde_json::Value = serde_json::from_slice(&o.stdout).unwrap();
+    let warnings = v["warnings"].to_string();
+    assert!(
+        warnings.contains("count as stable by default"),
+        "{warnings}"
+    );
+    assert!(warnings.contains("use --boundary-unstable"), "{warnings}");
+    let o = saddle(&["solve", path, "--format", "json", "--boundary-unstable"]);
+    let v: serde_json::Value = serde_json::from_slice(&o.stdout).unwrap();
+    let warnings = v["warnings"].to_string();
+    assert!(warnings.contains("drop --boundary-unstable"), "{warnings}");
+}

@@ -63,7 +63,7 @@ impl<'a> Checker<'a> {
             if let Some(h) = self.objective_header {
                 self.error(
                     Diagnostic::error(
-                        "objective-no-loss",
+                        "objective-empty",
                         "the objective section has no `loss = ...`",
                         h,
                         "empty objective",
@@ -97,7 +97,7 @@ impl<'a> Checker<'a> {
                         let first = *first;
                         self.error(
                             Diagnostic::error(
-                                "duplicate",
+                                "duplicate-objective-item",
                                 format!("the objective gives `{word}` twice"),
                                 *span,
                                 "given again here",
@@ -157,7 +157,7 @@ impl<'a> Checker<'a> {
                             ok = false;
                             self.error(
                                 Diagnostic::error(
-                                    "syntax",
+                                    "expected-replaces",
                                     format!("expected `replaces`, found name `{}`", word.text),
                                     word.span,
                                     "expected `replaces` here",
@@ -180,7 +180,7 @@ impl<'a> Checker<'a> {
                     if let Some(first) = controlled.get(&var) {
                         self.error(
                             Diagnostic::error(
-                                "duplicate",
+                                "duplicate-control",
                                 format!("`{}` is declared a control twice", variable.text),
                                 *span,
                                 "declared again here",
@@ -194,7 +194,7 @@ impl<'a> Checker<'a> {
                         if let Some(first) = replaced.get(&eq) {
                             self.error(
                                 Diagnostic::error(
-                                    "duplicate",
+                                    "duplicate-replaced-equation",
                                     "two controls replace the same equation",
                                     *span,
                                     "replaced again here",
@@ -309,17 +309,13 @@ impl<'a> Checker<'a> {
                 None
             }
             None => {
-                let mut d = Diagnostic::error(
-                    "unknown-name",
-                    format!("unknown variable `{}`", name.text),
-                    name.span,
-                    "not declared",
+                self.report_unknown(
+                    "unknown-control",
+                    "variable",
+                    name,
+                    |s| matches!(s, Symbol::Endogenous(_)),
+                    Some("a control is a variable of the endogenous section"),
                 );
-                d = match self.suggest(name.text, |s| matches!(s, Symbol::Endogenous(_))) {
-                    Some(h) => d.with_help(h),
-                    None => d.with_help("a control is a variable of the endogenous section"),
-                };
-                self.error(d);
                 None
             }
         }
@@ -381,7 +377,7 @@ impl<'a> Checker<'a> {
             if let Some((_, first)) = seen.iter().find(|(t, _)| *t == target) {
                 self.error(
                     Diagnostic::error(
-                        "duplicate",
+                        "duplicate-prior",
                         "two priors for the same quantity",
                         p.span,
                         "given again here",
@@ -529,17 +525,13 @@ impl<'a> Checker<'a> {
                     None
                 }
                 None => {
-                    let mut d = Diagnostic::error(
-                        "unknown-name",
-                        format!("unknown parameter `{}`", n.text),
-                        n.span,
-                        "not declared",
+                    self.report_unknown(
+                        "unknown-prior-parameter",
+                        "parameter",
+                        n,
+                        |s| matches!(s, Symbol::Parameter(_)),
+                        Some("a prior names a parameter of the parameters section"),
                     );
-                    d = match self.suggest(n.text, |s| matches!(s, Symbol::Parameter(_))) {
-                        Some(h) => d.with_help(h),
-                        None => d.with_help("a prior names a parameter of the parameters section"),
-                    };
-                    self.error(d);
                     None
                 }
             },
@@ -571,7 +563,7 @@ impl<'a> Checker<'a> {
                     Some((sym, decl)) => {
                         self.error(
                             Diagnostic::error(
-                                "prior-target",
+                                "prior-sd-target",
                                 format!(
                                     "`{}` is {}; `sd(...)` names an innovation or an observable",
                                     name.text,
@@ -585,18 +577,7 @@ impl<'a> Checker<'a> {
                         None
                     }
                     None => {
-                        let mut d = Diagnostic::error(
-                            "unknown-name",
-                            format!("unknown innovation `{}`", name.text),
-                            name.span,
-                            "not declared",
-                        );
-                        if let Some(h) = self.suggest(name.text, |s| {
-                            matches!(s, Symbol::Exogenous(_) | Symbol::Observable(_))
-                        }) {
-                            d = d.with_help(h);
-                        }
-                        self.error(d);
+                        self.unknown_innovation(name, None);
                         None
                     }
                 }
@@ -632,7 +613,7 @@ impl<'a> Checker<'a> {
                 let first = *first;
                 self.error(
                     Diagnostic::error(
-                        "duplicate",
+                        "duplicate-argument",
                         format!("argument `{}` is given twice", a.name.text),
                         arg_span,
                         "given again here",
@@ -726,7 +707,7 @@ impl<'a> Checker<'a> {
         if t.word.text != "in" {
             self.error(
                 Diagnostic::error(
-                    "syntax",
+                    "expected-in",
                     format!("expected `in`, found name `{}`", t.word.text),
                     t.word.span,
                     "expected `in` here",

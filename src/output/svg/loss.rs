@@ -187,7 +187,7 @@ pub fn loss_map(title: &str, result: &SweepResult, source: &str) -> String {
     let mut statuses: Vec<&str> = Vec::new();
     for p in &result.points {
         if p.expected_loss.is_none() && !statuses.contains(&p.status.as_str()) {
-            statuses.push(&p.status);
+            statuses.push(p.status.as_str());
         }
     }
     for s in &statuses {
@@ -240,7 +240,7 @@ pub fn loss_map(title: &str, result: &SweepResult, source: &str) -> String {
             let Some(p) = point(ix, iy) else { continue };
             let fill = match p.expected_loss.filter(|v| v.is_finite()) {
                 Some(v) => shade(v),
-                None => status_fill(&p.status).to_string(),
+                None => status_fill(p.status.as_str()).to_string(),
             };
             body.push_str(&format!(
                 "<rect x=\"{}\" y=\"{}\" width=\"{}\" height=\"{}\" fill=\"{fill}\" data-status=\"{}\"/>\n",
@@ -248,7 +248,7 @@ pub fn loss_map(title: &str, result: &SweepResult, source: &str) -> String {
                 num(y1 - (cy + 1) as f64 * ch),
                 num(cw + 0.3),
                 num(ch + 0.3),
-                escape(&p.status)
+                escape(p.status.as_str())
             ));
         }
     }
@@ -410,16 +410,17 @@ pub fn loss_map(title: &str, result: &SweepResult, source: &str) -> String {
 #[cfg(test)]
 mod tests {
     use super::*;
-    use crate::analysis::sweep::{error_point, SweepPoint};
+    use crate::analysis::sweep::{error_point, SweepPoint, SweepStatus};
+    use crate::solution::Status;
 
     fn point(values: Vec<f64>, loss: Option<f64>) -> SweepPoint {
         SweepPoint {
             values,
-            status: if loss.is_some() {
-                "determinate".into()
+            status: SweepStatus::Solved(if loss.is_some() {
+                Status::Determinate
             } else {
-                "indeterminate".into()
-            },
+                Status::Indeterminate
+            }),
             unstable: Some(1),
             forward_looking: Some(1),
             largest_stable_modulus: None,

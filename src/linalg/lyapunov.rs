@@ -19,16 +19,18 @@
 //! 2 x 2 blocks makes awkward.
 //!
 //! Every solution is checked by its residual ||X - G X G' - W||_F relative to
-//! ||W||_F + ||G||_F^2 ||X||_F; if the Schur route fails (no convergence of the QR iteration or a
-//! residual above [`RESIDUAL_TOL`]) the solver falls back to doubling (Smith 1968, "Matrix
+//! ||W||_F + ||G||_F^2 ||X||_F; if the Schur route fails (no convergence of the QR iteration within
+//! [`LyapunovParams::schur_sweeps_per_dim`], a numerically singular triangular solve, or a
+//! residual above [`LyapunovParams::residual_tol`]) the solver falls back to doubling (Smith 1968, "Matrix
 //! equation XA + BX = C", SIAM J. Appl. Math. 16: X_{k+1} = X_k + A_k X_k A_k', A_{k+1} = A_k^2,
 //! which after k steps has summed 2^k terms of the series), with its own convergence test.
 
-use nalgebra::{Complex, DMatrix};
+use nalgebra::DMatrix;
 use thiserror::Error;
 
-/// Complex double.
-pub type C64 = Complex<f64>;
+use super::complex::{cmul, to_complex};
+use super::schur::{ComplexSchur, RealSchur};
+use super::C64;
 
 /// Largest accepted relative residual of a Lyapunov solution. A backward-stable solve of a
 /// well-conditioned problem leaves about n * eps (1e-14 for n = 50); 1e-9 leaves room for the
@@ -54,6 +56,58 @@ pub const MAX_DOUBLING_STEPS: usize = 64;
 /// Largest dimension accepted (a dense n x n complex Schur form; 5000 is 400 MB of workspace).
 pub const MAX_DIMENSION: usize = 5000;
 
+/// Tuning of [`solve_discrete_lyapunov_with`] (and of the moments, which solve the same equation
+/// innovation by innovation). The defaults are the constants above.
+#[derive(Debug, Clone, PartialEq)]
+#[non_exhaustive]
+pub struct LyapunovParams {
+    /// Largest accepted relative residual of a solution. Default [`RESIDUAL_TOL`] (1e-9).
+    pub residual_tol: f64,
+    /// QR sweeps per dimension allowed to the real Schur form before the Schur route gives up
+    /// and doubling takes over. Default [`SCHUR_MAX_SWEEPS_PER_DIM`] (100). At least 1.
+    pub schur_sweeps_per_dim: usize,
+    /// Largest number of doubling steps. Default [`MAX_DOUBLING_STEPS`] (64). At least 1.
+    pub max_doubling_steps: usize,
+}
+
+impl Default for LyapunovParams {
+    fn default() -> Self {
+        LyapunovParams {
+            residual_tol: RESIDUAL_TOL,
+            schur_sweeps_per_dim: SCHUR_MAX_SWEEPS_PER_DIM,
+            max_doubling_steps: MAX_DOUBLING_STEPS,
+        }
+    }
+}
+
+impl LyapunovParams {
+    /// The defaults with a different sweep budget for the Schur form (at least 1).
+    pub fn with_schur_sweeps_per_dim(mut self, sweeps: usize) -> Self {
+        self.schur_sweeps_per_dim = sweeps.max(1);
+        self
+    }
+
+    /// Checks the documented ranges; returns `InvalidParams` naming the offending field.
+    pub fn validate(&self) -> Result<(), LyapunovError> {
+        if !(self.residual_tol.is_finite() && self.residual_tol > 0.0) {
+            return Err(LyapunovError::InvalidParams {
+                field: "residual_tol",
+            });
+        }
+        if self.schur_sweeps_per_dim == 0 {
+            return Err(LyapunovError::InvalidParams {
+                field: "schur_sweeps_per_dim",
+            });
+        }
+        if self.max_doubling_steps == 0 {
+            return Err(LyapunovError::InvalidParams {
+                field: "max_doubling_steps",
+            });
+        }
+        Ok(())
+    }
+}
+
 /// Why a Lyapunov equation was not solved.
 #[derive(Debug, Clone, PartialEq, Error)]
 pub enum LyapunovError {
@@ -74,12 +128,16 @@ pub enum LyapunovError {
     Singular { product: f64 },
     #[error("the Schur decomposition of the transition matrix did not converge")]
     SchurNoConvergence,
-    #[error("neither the Schur solver (residual {schur_residual:e}) nor doubling (residual {doubling_residual:e} after {steps} steps) reached the residual tolerance {RESIDUAL_TOL:e}")]
+    #[error("neither the Schur solver (residual {schur_residual:e}) nor doubling (residual {doubling_residual:e} after {steps} steps) reached the residual tolerance {tolerance:e}")]
     NoConvergence {
+        /// Infinite when the Schur route failed before producing a solution.
         schur_residual: f64,
         doubling_residual: f64,
         steps: usize,
+        tolerance: f64,
     },
+    #[error("the Lyapunov solver's parameter `{field}` is out of range")]
+    InvalidParams { field: &'static str },
 }
 
 /// Which algorithm produced a solution.
@@ -97,230 +155,6 @@ pub struct LyapunovSolution {
     /// ||X - G X G' - W||_F / (||W||_F + ||G||_F^2 ||X||_F).
     pub relative_residual: f64,
 }
-
-/// A complex Schur decomposition G = U T U^H: U unitary, T upper triangular.
-#[derive(Debug, Clone, PartialEq)]
-pub struct ComplexSchur {
-    pub u: DMatrix<C64>,
-    pub t: DMatrix<C64>,
-}
-
-impl ComplexSchur {
-    /// Decomposes the real square matrix `g` (not overwritten). Returns the factors with the
-    /// strictly lower part of T set to exact zeros, or an error if the QR iteration does not
-    /// converge or `g` has a non-finite entry.
-    pub fn new(g: &DMatrix<f64>) -> Result<Self, LyapunovError> {
-        let n = g.nrows();
-        if g.ncols() != n {
-            return Err(LyapunovError::Shape {
-                g_rows: n,
-                g_cols: g.ncols(),
-                w_rows: n,
-                w_cols: n,
-            });
-        }
-        if n > MAX_DIMENSION {
-            return Err(LyapunovError::TooLarge { n });
-        }
-        if g.iter().any(|v| !v.is_finite()) {
-            return Err(LyapunovError::NonFinite);
-        }
-        // Real Schur form first (a real QR iteration is about four times cheaper than a complex
-        // one), then each 2 x 2 block of a complex pair is triangularized by one unitary rotation.
-        let schur =
-            nalgebra::Schur::try_new(g.clone(), SCHUR_EPS, SCHUR_MAX_SWEEPS_PER_DIM * n.max(1))
-                .ok_or(LyapunovError::SchurNoConvergence)?;
-        let (q, tr) = schur.unpack();
-        if q.iter().chain(tr.iter()).any(|v| !v.is_finite()) {
-            return Err(LyapunovError::SchurNoConvergence);
-        }
-        let scale = tr.norm().max(f64::MIN_POSITIVE);
-        let negligible = 1e3 * SCHUR_EPS * scale;
-        let mut t = tr.map(|v| C64::new(v, 0.0));
-        let mut u = q.map(|v| C64::new(v, 0.0));
-        // Below the subdiagonal the form is zero; a subdiagonal entry marks a 2 x 2 block, and two
-        // in a row would mean the iteration did not finish.
-        for j in 0..n {
-            for i in (j + 2)..n {
-                if t[(i, j)].norm() > negligible {
-                    return Err(LyapunovError::SchurNoConvergence);
-                }
-                t[(i, j)] = C64::new(0.0, 0.0);
-            }
-        }
-        let mut k = 0;
-        while k + 1 < n {
-            if t[(k + 1, k)].norm() <= negligible {
-                t[(k + 1, k)] = C64::new(0.0, 0.0);
-                k += 1;
-                continue;
-            }
-            if k + 2 < n && t[(k + 2, k + 1)].norm() > negligible {
-                return Err(LyapunovError::SchurNoConvergence);
-            }
-            triangularize_block(&mut t, &mut u, k);
-            k += 2;
-        }
-        Ok(ComplexSchur { u, t })
-    }
-
-    /// The eigenvalues: the diagonal of T, in its current order.
-    pub fn eigenvalues(&self) -> Vec<C64> {
-        (0..self.t.nrows()).map(|i| self.t[(i, i)]).collect()
-    }
-
-    /// Reorders the decomposition so that the eigenvalues for which `front` is true come first
-    /// (stably: their relative order is kept), by swapping adjacent diagonal entries with plane
-    /// rotations (the method of LAPACK's complex `trexc`; Golub and Van Loan, Matrix Computations,
-    /// 4th ed., section 7.6.2). Overwrites `self.u` and `self.t`; G = U T U^H still holds. Returns
-    /// how many eigenvalues were selected.
-    pub fn reorder_front(&mut self, front: impl Fn(C64) -> bool) -> usize {
-        let n = self.t.nrows();
-        let mut placed = 0;
-        for k in 0..n {
-            if front(self.t[(k, k)]) {
-                // Bubble the eigenvalue at k up to position `placed`.
-                let mut pos = k;
-                while pos > placed {
-                    self.swap_adjacent(pos - 1);
-                    pos -= 1;
-                }
-                placed += 1;
-            }
-        }
-        placed
-    }
-
-    /// Swaps the diagonal entries k and k+1 of T by one rotation applied to rows and columns k,
-    /// k+1 of T and to columns k, k+1 of U. Overwrites both.
-    fn swap_adjacent(&mut self, k: usize) {
-        let n = self.t.nrows();
-        let t11 = self.t[(k, k)];
-        let t22 = self.t[(k + 1, k + 1)];
-        let (cs, sn) = rotation(self.t[(k, k + 1)], t22 - t11);
-        // Rows k, k+1 from column k+2 on.
-        for j in (k + 2)..n {
-            let x = self.t[(k, j)];
-            let y = self.t[(k + 1, j)];
-            self.t[(k, j)] = x * cs + sn * y;
-            self.t[(k + 1, j)] = y * cs - sn.conj() * x;
-        }
-        // Columns k, k+1 above row k, with the conjugate rotation.
-        let snc = sn.conj();
-        for i in 0..k {
-            let x = self.t[(i, k)];
-            let y = self.t[(i, k + 1)];
-            self.t[(i, k)] = x * cs + snc * y;
-            self.t[(i, k + 1)] = y * cs - snc.conj() * x;
-        }
-        self.t[(k, k)] = t22;
-        self.t[(k + 1, k + 1)] = t11;
-        for i in 0..n {
-            let x = self.u[(i, k)];
-            let y = self.u[(i, k + 1)];
-            self.u[(i, k)] = x * cs + snc * y;
-            self.u[(i, k + 1)] = y * cs - snc.conj() * x;
-        }
-    }
-}
-
-/// A real Schur decomposition G = Q T Q': Q orthogonal, T quasi-upper-triangular with 1 x 1
-/// blocks (real eigenvalues) and 2 x 2 blocks (complex pairs) on the diagonal.
-#[derive(Debug, Clone, PartialEq)]
-pub struct RealSchur {
-    pub q: DMatrix<f64>,
-    pub t: DMatrix<f64>,
-    /// The diagonal blocks as (first index, size 1 or 2), in order.
-    pub blocks: Vec<(usize, usize)>,
-}
-
-impl RealSchur {
-    /// Decomposes the real square matrix `g` (not overwritten): entries of T below the
-    /// subdiagonal and negligible subdiagonal entries are set to exact zeros. Errors if the QR
-    /// iteration does not converge or `g` has a non-finite entry.
-    pub fn new(g: &DMatrix<f64>) -> Result<Self, LyapunovError> {
-        let n = g.nrows();
-        if g.ncols() != n {
-            return Err(LyapunovError::Shape {
-                g_rows: n,
-                g_cols: g.ncols(),
-                w_rows: n,
-                w_cols: n,
-            });
-        }
-        if n > MAX_DIMENSION {
-            return Err(LyapunovError::TooLarge { n });
-        }
-        if g.iter().any(|v| !v.is_finite()) {
-            return Err(LyapunovError::NonFinite);
-        }
-        let schur =
-            nalgebra::Schur::try_new(g.clone(), SCHUR_EPS, SCHUR_MAX_SWEEPS_PER_DIM * n.max(1))
-                .ok_or(LyapunovError::SchurNoConvergence)?;
-        let (q, mut t) = schur.unpack();
-        if q.iter().chain(t.iter()).any(|v| !v.is_finite()) {
-            return Err(LyapunovError::SchurNoConvergence);
-        }
-        let negligible = 1e3 * SCHUR_EPS * t.norm().max(f64::MIN_POSITIVE);
-        for j in 0..n {
-            for i in (j + 2)..n {
-                if t[(i, j)].abs() > negligible {
-                    return Err(LyapunovError::SchurNoConvergence);
-                }
-                t[(i, j)] = 0.0;
-            }
-        }
-        let mut blocks = Vec::new();
-        let mut k = 0;
-        while k < n {
-            if k + 1 < n && t[(k + 1, k)].abs() > negligible {
-                if k + 2 < n && t[(k + 2, k + 1)].abs() > negligible {
-                    return Err(LyapunovError::SchurNoConvergence);
-                }
-                blocks.push((k, 2));
-                k += 2;
-            } else {
-                if k + 1 < n {
-                    t[(k + 1, k)] = 0.0;
-                }
-                blocks.push((k, 1));
-                k += 1;
-            }
-        }
-        Ok(RealSchur { q, t, blocks })
-    }
-
-    /// The eigenvalues, block by block (a 2 x 2 block gives its pair).
-    pub fn eigenvalues(&self) -> Vec<C64> {
-        let mut out = Vec::with_capacity(self.t.nrows());
-        for &(k, size) in &self.blocks {
-            if size == 1 {
-                out.push(C64::new(self.t[(k, k)], 0.0));
-            } else {
-                let (a, b, c, d) = (
-                    self.t[(k, k)],
-                    self.t[(k, k + 1)],
-                    self.t[(k + 1, k)],
-                    self.t[(k + 1, k + 1)],
-                );
-                let half = C64::new((a + d) * 0.5, 0.0);
-                let disc = C64::new(((a - d) * 0.5).powi(2) + b * c, 0.0).sqrt();
-                out.push(half + disc);
-                out.push(half - disc);
-            }
-        }
-        out
-    }
-
-    /// Largest eigenvalue modulus.
-    pub fn spectral_radius(&self) -> f64 {
-        self.eigenvalues()
-            .iter()
-            .map(|z| z.norm())
-            .fold(0.0, f64::max)
-    }
-}
-
 /// Solves the small Stein equation X - A X B' = F for X (q x p, q, p in {1, 2}) through its
 /// Kronecker form (I - B kron A) vec X = vec F, Gaussian elimination with partial pivoting.
 /// `a` is q x q and `b` p x p, both column-major slices; `f` is vec F, overwritten by vec X.
@@ -480,68 +314,6 @@ pub fn solve_quasi_triangular_stein(
     Ok(DMatrix::from_vec(n, n, y))
 }
 
-/// Triangularizes the 2 x 2 diagonal block of `t` at rows and columns k, k+1: with lambda an
-/// eigenvalue of the block [a b; c d] (c != 0) and v = (lambda - d, c)/norm its eigenvector, the
-/// unitary V = [v, (-conj v2, conj v1)] gives V^H B V = [lambda *; 0 mu]. Overwrites rows and
-/// columns k, k+1 of `t` (T <- V^H T V restricted to them) and columns k, k+1 of `u` (U <- U V).
-fn triangularize_block(t: &mut DMatrix<C64>, u: &mut DMatrix<C64>, k: usize) {
-    let n = t.nrows();
-    let a = t[(k, k)];
-    let b = t[(k, k + 1)];
-    let c = t[(k + 1, k)];
-    let d = t[(k + 1, k + 1)];
-    let half_trace = (a + d) * 0.5;
-    let disc = ((a - d) * 0.5) * ((a - d) * 0.5) + b * c;
-    let lambda = half_trace + disc.sqrt();
-    let (mut v1, mut v2) = (lambda - d, c);
-    let norm = (v1.norm_sqr() + v2.norm_sqr()).sqrt();
-    if norm == 0.0 || !norm.is_finite() {
-        return;
-    }
-    v1 /= norm;
-    v2 /= norm;
-    let (w1, w2) = (-v2.conj(), v1.conj());
-    // Rows k, k+1: [r1; r2] <- V^H [r1; r2] for every column from k on.
-    for j in k..n {
-        let x = t[(k, j)];
-        let y = t[(k + 1, j)];
-        t[(k, j)] = v1.conj() * x + v2.conj() * y;
-        t[(k + 1, j)] = w1.conj() * x + w2.conj() * y;
-    }
-    // Columns k, k+1: [c1 c2] <- [c1 c2] V for every row up to k+1.
-    for i in 0..(k + 2) {
-        let x = t[(i, k)];
-        let y = t[(i, k + 1)];
-        t[(i, k)] = x * v1 + y * v2;
-        t[(i, k + 1)] = x * w1 + y * w2;
-    }
-    t[(k + 1, k)] = C64::new(0.0, 0.0);
-    for i in 0..n {
-        let x = u[(i, k)];
-        let y = u[(i, k + 1)];
-        u[(i, k)] = x * v1 + y * v2;
-        u[(i, k + 1)] = x * w1 + y * w2;
-    }
-}
-
-/// A plane rotation [c s; -conj(s) c] (c real) with [c s; -conj(s) c] [f; g] = [r; 0].
-fn rotation(f: C64, g: C64) -> (f64, C64) {
-    let gn = g.norm();
-    if gn == 0.0 {
-        return (1.0, C64::new(0.0, 0.0));
-    }
-    let fn_ = f.norm();
-    if fn_ == 0.0 {
-        // r = |g|: c = 0, s = conj(g)/|g|.
-        return (0.0, g.conj() / gn);
-    }
-    let d = fn_.hypot(gn);
-    let c = fn_ / d;
-    // s = (f/|f|) conj(g) / d
-    let s = (f / fn_) * g.conj() / d;
-    (c, s)
-}
-
 /// Solves Y = T Y T^H + C for upper-triangular `t` (n x n) and any `c` (n x n), column by
 /// column from the last (Barraud 1977): with r_j = sum_{l>j} conj(t_jl) Y[:, l],
 /// (I - conj(t_jj) T) Y[:, j] = C[:, j] + T r_j. Reads `t` and `c`, overwrites nothing, returns
@@ -630,11 +402,6 @@ pub fn solve_triangular_stein(
     }))
 }
 
-/// Frobenius norm of a complex matrix.
-pub fn frobenius_c(m: &DMatrix<C64>) -> f64 {
-    m.iter().map(|z| z.norm_sqr()).sum::<f64>().sqrt()
-}
-
 /// ||X - G X G' - W||_F / (||W||_F + ||G||_F^2 ||X||_F) (0 when everything is zero). Reads only.
 pub fn relative_residual(g: &DMatrix<f64>, w: &DMatrix<f64>, x: &DMatrix<f64>) -> f64 {
     let r = x - g * x * g.transpose() - w;
@@ -650,13 +417,25 @@ pub fn relative_residual(g: &DMatrix<f64>, w: &DMatrix<f64>, x: &DMatrix<f64>) -
     }
 }
 
-/// Solves X = G X G' + W for real `g` and symmetric `w` (neither overwritten) and returns the
-/// checked solution: Schur first, doubling if the Schur route fails or leaves a residual above
-/// [`RESIDUAL_TOL`]. An eigenvalue of modulus at least one is [`LyapunovError::NotStable`].
+/// Solves X = G X G' + W for real `g` and symmetric `w` (neither overwritten) with the default
+/// [`LyapunovParams`]; see [`solve_discrete_lyapunov_with`].
 pub fn solve_discrete_lyapunov(
     g: &DMatrix<f64>,
     w: &DMatrix<f64>,
 ) -> Result<LyapunovSolution, LyapunovError> {
+    solve_discrete_lyapunov_with(g, w, &LyapunovParams::default())
+}
+
+/// Solves X = G X G' + W for real `g` and symmetric `w` (neither overwritten) and returns the
+/// checked solution: Schur first, doubling if the Schur route fails or leaves a residual above
+/// `params.residual_tol`. An eigenvalue of modulus at least one is
+/// [`LyapunovError::NotStable`]; out-of-range parameters are `InvalidParams`.
+pub fn solve_discrete_lyapunov_with(
+    g: &DMatrix<f64>,
+    w: &DMatrix<f64>,
+    params: &LyapunovParams,
+) -> Result<LyapunovSolution, LyapunovError> {
+    params.validate()?;
     let n = g.nrows();
     if g.ncols() != n || w.nrows() != n || w.ncols() != n {
         return Err(LyapunovError::Shape {
@@ -676,7 +455,7 @@ pub fn solve_discrete_lyapunov(
             relative_residual: 0.0,
         });
     }
-    let schur_residual = match RealSchur::new(g) {
+    let schur_residual = match RealSchur::with_sweeps(g, params.schur_sweeps_per_dim) {
         Ok(schur) => {
             let radius = schur.spectral_radius();
             if radius >= 1.0 {
@@ -687,7 +466,7 @@ pub fn solve_discrete_lyapunov(
             match solve_with_real_schur(&schur, w) {
                 Ok(x) => {
                     let res = relative_residual(g, w, &x);
-                    if res <= RESIDUAL_TOL {
+                    if res <= params.residual_tol {
                         return Ok(LyapunovSolution {
                             x,
                             method: LyapunovMethod::Schur,
@@ -703,9 +482,9 @@ pub fn solve_discrete_lyapunov(
         Err(LyapunovError::SchurNoConvergence) => f64::INFINITY,
         Err(e) => return Err(e),
     };
-    let (x, steps) = doubling(g, w);
+    let (x, steps) = doubling(g, w, params.max_doubling_steps);
     let res = relative_residual(g, w, &x);
-    if res <= RESIDUAL_TOL && x.iter().all(|v| v.is_finite()) {
+    if res <= params.residual_tol && x.iter().all(|v| v.is_finite()) {
         Ok(LyapunovSolution {
             x,
             method: LyapunovMethod::Doubling,
@@ -716,6 +495,7 @@ pub fn solve_discrete_lyapunov(
             schur_residual,
             doubling_residual: res,
             steps,
+            tolerance: params.residual_tol,
         })
     }
 }
@@ -736,7 +516,7 @@ pub fn solve_with_schur(
     schur: &ComplexSchur,
     w: &DMatrix<f64>,
 ) -> Result<DMatrix<f64>, LyapunovError> {
-    let wc = w.map(|v| C64::new(v, 0.0));
+    let wc = to_complex(w);
     let c = cmul(&cmul(&schur.u.adjoint(), &wc), &schur.u);
     let y = solve_triangular_stein(&schur.t, &c)?;
     let xc = cmul(&cmul(&schur.u, &y), &schur.u.adjoint());
@@ -744,35 +524,14 @@ pub fn solve_with_schur(
     Ok((&x + x.transpose()) * 0.5)
 }
 
-/// Real and imaginary parts of a complex matrix.
-pub fn split(m: &DMatrix<C64>) -> (DMatrix<f64>, DMatrix<f64>) {
-    (m.map(|z| z.re), m.map(|z| z.im))
-}
-
-/// The complex product a b through three real products (Gauss's trick: re = ar br - ai bi,
-/// im = (ar + ai)(br + bi) - ar br - ai bi), so the fast real kernel does the work. Reads only.
-/// Panics only on mismatched shapes, which callers rule out.
-pub fn cmul(a: &DMatrix<C64>, b: &DMatrix<C64>) -> DMatrix<C64> {
-    let (ar, ai) = split(a);
-    let (br, bi) = split(b);
-    let rr = &ar * &br;
-    let ii = &ai * &bi;
-    let ss = (&ar + &ai) * (&br + &bi);
-    DMatrix::from_fn(a.nrows(), b.ncols(), |i, j| {
-        C64::new(
-            rr[(i, j)] - ii[(i, j)],
-            ss[(i, j)] - rr[(i, j)] - ii[(i, j)],
-        )
-    })
-}
-
 /// Doubling (Smith 1968): X_0 = W, A_0 = G; X_{k+1} = X_k + A_k X_k A_k', A_{k+1} = A_k A_k. Stops
-/// when the increment is below eps ||X|| or after [`MAX_DOUBLING_STEPS`]. Reads only; returns X
-/// and the steps taken.
-pub fn doubling(g: &DMatrix<f64>, w: &DMatrix<f64>) -> (DMatrix<f64>, usize) {
+/// when the increment is below eps ||X|| or after `max_steps` (the default is
+/// [`MAX_DOUBLING_STEPS`]). Reads only; returns X (unchecked: the caller tests its residual) and
+/// the steps taken.
+pub fn doubling(g: &DMatrix<f64>, w: &DMatrix<f64>, max_steps: usize) -> (DMatrix<f64>, usize) {
     let mut x = w.clone();
     let mut a = g.clone();
-    for step in 1..=MAX_DOUBLING_STEPS {
+    for step in 1..=max_steps {
         let inc = &a * &x * a.transpose();
         x += &inc;
         let inc_norm = inc.norm();
@@ -784,12 +543,13 @@ pub fn doubling(g: &DMatrix<f64>, w: &DMatrix<f64>) -> (DMatrix<f64>, usize) {
         }
         a = &a * &a;
     }
-    (x, MAX_DOUBLING_STEPS)
+    (x, max_steps)
 }
 
 #[cfg(test)]
 mod tests {
     use super::*;
+    use crate::linalg::complex::frobenius_c;
 
     fn lcg_matrix(n: usize, seed: u64, scale: f64) -> DMatrix<f64> {
         let mut s = seed;
@@ -835,7 +595,37 @@ mod tests {
         ));
         let g = DMatrix::from_row_slice(2, 2, &[0.5, 0.3, -0.2, 0.4]);
         let a = solve_discrete_lyapunov(&g, &w).unwrap();
-        let (b, _) = doubling(&g, &w);
+        let (b, _) = doubling(&g, &w, MAX_DOUBLING_STEPS);
         assert!((a.x - b).norm() < 1e-12);
+    }
+
+    #[test]
+    fn doubling_takes_over_when_the_schur_form_does_not_converge() {
+        // A 12 x 12 dense matrix needs a few QR sweeps per eigenvalue; a budget of one sweep per
+        // dimension is not enough, so the Schur route fails and doubling must answer.
+        let g = lcg_matrix(12, 7, 1.0);
+        let radius = RealSchur::new(&g).unwrap().spectral_radius();
+        let g = g * (0.9 / radius);
+        let w = DMatrix::identity(12, 12);
+        let tight = LyapunovParams::default().with_schur_sweeps_per_dim(1);
+        assert!(matches!(
+            RealSchur::with_sweeps(&g, 1),
+            Err(LyapunovError::SchurNoConvergence)
+        ));
+        let fallback = solve_discrete_lyapunov_with(&g, &w, &tight).unwrap();
+        assert_eq!(fallback.method, LyapunovMethod::Doubling);
+        assert!(fallback.relative_residual <= RESIDUAL_TOL);
+        let schur = solve_discrete_lyapunov(&g, &w).unwrap();
+        assert_eq!(schur.method, LyapunovMethod::Schur);
+        // Both backward stable to about 1e-14 relative; the condition number of a radius-0.9
+        // problem is about 1/(1 - 0.81) = 5, so agreement to 1e-10 relative is a real check.
+        assert!((&fallback.x - &schur.x).norm() <= 1e-10 * schur.x.norm());
+        // Too few doubling steps to sum the series: an honest NoConvergence with both residuals.
+        let mut starved = tight.clone();
+        starved.max_doubling_steps = 2;
+        assert!(matches!(
+            solve_discrete_lyapunov_with(&g, &w, &starved),
+            Err(LyapunovError::NoConvergence { steps: 2, .. })
+        ));
     }
 }
