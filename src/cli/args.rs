@@ -203,6 +203,8 @@ pub struct IrfArgs {
     /// Also draw the responses as an SVG grid of panels.
     #[arg(long, value_name = "PATH.svg")]
     pub plot: Option<PathBuf>,
+    #[command(flatten)]
+    pub bands: super::bands::BandArgs,
     #[arg(long, value_enum, default_value_t = Format::Text)]
     pub format: Format,
     #[command(flatten)]
@@ -223,6 +225,8 @@ pub struct MomentsArgs {
     /// Forecast-error variance decomposition at these horizons (comma-separated).
     #[arg(long, value_name = "H,H,...", value_delimiter = ',')]
     pub horizons: Vec<u32>,
+    #[command(flatten)]
+    pub bands: super::bands::BandArgs,
     #[arg(long, value_enum, default_value_t = Format::Text)]
     pub format: Format,
     #[command(flatten)]
@@ -320,6 +324,9 @@ pub struct DataCommandArgs {
     /// Also draw the result as an SVG chart.
     #[arg(long, value_name = "PATH.svg")]
     pub plot: Option<PathBuf>,
+    // Posterior bands (`filter` and `forecast`; `decompose` refuses them).
+    #[command(flatten)]
+    pub bands: super::bands::BandArgs,
     #[arg(long, value_enum, default_value_t = Format::Text)]
     pub format: Format,
     #[command(flatten)]
@@ -358,7 +365,7 @@ pub struct EstimateArgs {
     /// Also draw the chains' traces as an SVG grid of panels.
     #[arg(long, value_name = "PATH.svg")]
     pub plot: Option<PathBuf>,
-    /// Write the kept draws as CSV while the chains run (chain,draw,quantities...,logpost).
+    /// Write the kept draws as CSV while the chains run (seed,chain,draw,quantities...,logpost).
     #[arg(long = "draws-out", value_name = "PATH.csv")]
     pub draws_out: Option<PathBuf>,
     #[arg(long, value_enum, default_value_t = Format::Text)]

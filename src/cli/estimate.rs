@@ -201,17 +201,12 @@ pub fn run(args: EstimateArgs) -> Result<Outcome, Failure> {
     Ok(Outcome::Success)
 }
 
-/// Creates the draws file with its header `chain,draw,NAME...,logpost` (written at once).
+/// Creates the draws file with its header `seed,chain,draw,NAME...,logpost` (written at once).
 fn open_draws(path: &Path, post: &Posterior) -> Result<FileSink, Failure> {
     let mut f = std::fs::File::create(path)
         .map_err(|e| Failure::usage(format!("cannot create {}: {e}", path.display())))?;
-    let mut header = String::from("chain,draw");
-    for q in &post.quantities {
-        header.push(',');
-        header.push_str(&q.name);
-    }
-    header.push_str(",logpost\n");
-    f.write_all(header.as_bytes())
+    let names: Vec<String> = post.quantities.iter().map(|q| q.name.clone()).collect();
+    f.write_all(estimation::draws::header(&names).as_bytes())
         .map_err(|e| Failure::usage(format!("cannot write {}: {e}", path.display())))?;
     Ok(FileSink(Mutex::new(f)))
 }

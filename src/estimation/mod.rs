@@ -13,7 +13,9 @@
 //! (1999) over the draws ([`harmonic_mean`]). Every reported number is in the quantities as
 //! written; the unconstrained coordinates of [`transform`] are used only inside.
 
+pub mod bands;
 pub mod diagnostics;
+pub mod draws;
 pub mod mcmc;
 pub mod mode;
 pub mod posterior;

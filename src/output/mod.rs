@@ -2,6 +2,9 @@
 //! Each submodule renders one command's result from library values; nothing here computes
 //! numerics or touches the file system.
 
+pub mod bands;
+pub mod bands_elements;
+pub mod bands_plot;
 pub mod csv;
 pub mod data;
 pub mod data_plot;

@@ -77,7 +77,7 @@ fn same_seed_same_draws_and_the_draws_file_is_complete() {
     let csv = std::fs::read_to_string(&path).unwrap();
     let mut lines = csv.lines();
     let header = lines.next().unwrap();
-    assert!(header.starts_with("chain,draw,theta,"));
+    assert!(header.starts_with("seed,chain,draw,theta,"));
     assert!(header.ends_with(",logpost"));
     let cols = header.split(',').count();
     let rows: Vec<&str> = lines.collect();
