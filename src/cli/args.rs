@@ -368,6 +368,10 @@ pub struct EstimateArgs {
     /// Write the kept draws as CSV while the chains run (seed,chain,draw,quantities...,logpost).
     #[arg(long = "draws-out", value_name = "PATH.csv")]
     pub draws_out: Option<PathBuf>,
+    /// Run no chains: diagnose the draws in these files instead (files of `--draws-out` from
+    /// runs with other seeds or machines; chains are told apart by seed and chain number).
+    #[arg(long, value_name = "PATH.csv", num_args = 1.., conflicts_with = "draws_out")]
+    pub diagnose: Vec<PathBuf>,
     #[arg(long, value_enum, default_value_t = Format::Text)]
     pub format: Format,
     #[command(flatten)]

@@ -31,13 +31,16 @@ pub struct Provenance {
 }
 
 /// The sampler's settings, for the record.
-#[derive(Debug, Clone, Copy, PartialEq)]
+#[derive(Debug, Clone, PartialEq)]
 pub struct SamplerRecord {
     pub chains: usize,
     pub draws: usize,
     pub burn_in: usize,
     pub seed: u64,
     pub step: f64,
+    /// Draws files the chains were read from (`--diagnose`), with their SHA-256; empty when the
+    /// chains ran in this run.
+    pub files: Vec<(String, String)>,
 }
 
 /// A prior in words with its natural parameters, e.g. `beta(a = 3, b = 2) in [0.1, 0.9]`.
@@ -178,6 +181,21 @@ pub fn json(
                 ("burn_in".into(), Json::Integer(sampler.burn_in as i64)),
                 ("seed".into(), Json::String(sampler.seed.to_string())),
                 ("step".into(), Json::Number(sampler.step)),
+                (
+                    "files".into(),
+                    Json::Array(
+                        sampler
+                            .files
+                            .iter()
+                            .map(|(f, sha)| {
+                                Json::Object(vec![
+                                    ("file".into(), Json::String(f.clone())),
+                                    ("sha256".into(), Json::String(sha.clone())),
+                                ])
+                            })
+                            .collect(),
+                    ),
+                ),
             ]),
         ),
         (
@@ -265,7 +283,19 @@ pub fn text(
             number(e.mode.log_posterior, 4)
         ));
     }
-    if !e.chains.is_empty() {
+    if !e.chains.is_empty() && !sampler.files.is_empty() {
+        let files: Vec<String> = sampler
+            .files
+            .iter()
+            .map(|(f, sha)| format!("{f} (sha256 {})", sha.get(..12).unwrap_or(sha)))
+            .collect();
+        out.push_str(&format!(
+            "\nPosterior from {} chains x {} draws read from {}\n",
+            sampler.chains,
+            sampler.draws,
+            files.join(", ")
+        ));
+    } else if !e.chains.is_empty() {
         out.push_str(&format!(
             "\nPosterior from {} chains x {} draws (burn-in {}, seed {})\n",
             sampler.chains, sampler.draws, sampler.burn_in, sampler.seed

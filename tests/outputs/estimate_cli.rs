@@ -185,3 +185,60 @@ fn bad_input_gets_the_documented_exit_status() {
     let v: serde_json::Value = serde_json::from_str(&text(&o.stdout)).unwrap();
     assert_eq!(v["status"], "indeterminate");
 }
+
+#[test]
+fn diagnosing_the_draws_files_repeats_the_runs_diagnostics_and_merges_runs() {
+    let dir = tempfile::tempdir().unwrap();
+    let a = dir.path().join("a.csv");
+    let b = dir.path().join("b.csv");
+    let (c, run_a, e) = run_json(&["--seed", "5", "--draws-out", a.to_str().unwrap()]);
+    assert_eq!(c, 0, "{e}");
+    let (c, _, e) = run_json(&["--seed", "6", "--draws-out", b.to_str().unwrap()]);
+    assert_eq!(c, 0, "{e}");
+    // The file holds the run's draws exactly (shortest round-trip numbers), split into the same
+    // chains: the summaries and diagnostics are the run's own.
+    let (c, diag_a, e) = run_json(&["--diagnose", a.to_str().unwrap()]);
+    assert_eq!(c, 0, "{e}");
+    assert_eq!(diag_a["posterior"], run_a["posterior"]);
+    assert_eq!(diag_a["sampler"]["chains"], 2);
+    assert_eq!(
+        diag_a["sampler"]["files"][0]["sha256"]
+            .as_str()
+            .unwrap()
+            .len(),
+        64
+    );
+    // Two runs (seeds 5 and 6): four chains, whether given as two files or concatenated.
+    let (c, two, e) = run_json(&["--diagnose", a.to_str().unwrap(), b.to_str().unwrap()]);
+    assert_eq!(c, 0, "{e}");
+    assert_eq!(two["sampler"]["chains"], 4);
+    assert_eq!(two["acceptance"].as_array().unwrap().len(), 4);
+    let cat = dir.path().join("cat.csv");
+    let mut both = std::fs::read(&a).unwrap();
+    both.extend(std::fs::read(&b).unwrap());
+    std::fs::write(&cat, both).unwrap();
+    let (c, merged, e) = run_json(&["--diagnose", cat.to_str().unwrap()]);
+    assert_eq!(c, 0, "{e}");
+    assert_eq!(merged["posterior"], two["posterior"]);
+    assert_ne!(two["posterior"], run_a["posterior"]);
+    // A bad file: exit 1 with its line and column, nothing on stdout.
+    let bad = dir.path().join("bad.csv");
+    std::fs::write(&bad, "seed,chain,draw,theta,logpost\n1,1,x,0.5,-3\n").unwrap();
+    let o = saddle(&[
+        "estimate",
+        MODEL,
+        "--data",
+        DATA,
+        "--starts",
+        "1",
+        "--diagnose",
+        bad.to_str().unwrap(),
+    ]);
+    assert_eq!(code(&o), 1);
+    assert!(
+        text(&o.stderr).contains("bad.csv:2:3 (draw)"),
+        "{}",
+        text(&o.stderr)
+    );
+    assert!(o.stdout.is_empty());
+}
