@@ -217,7 +217,11 @@ pub fn run(args: EstimateArgs) -> Result<Outcome, Failure> {
                 "warning: --plot draws the chains' traces; with --draws 0 there are none",
             );
         } else {
-            super::output::write_atomic(p, render::trace_chart(&est, &prov).as_bytes())?;
+            let svg = render::stack_svg(&[
+                render::trace_chart(&est, &prov),
+                render::density_chart(&est, &post.quantities, &prov),
+            ]);
+            super::output::write_atomic(p, svg.as_bytes())?;
         }
     }
     if args.format == Format::Json || args.out.output.is_some() {

@@ -118,6 +118,20 @@ fn text_says_what_results_are_conditional_on_and_plot_draws_traces() {
     assert!(doc.starts_with("<svg") || doc.starts_with("<?xml"));
     assert!(doc.contains("chain 2") && doc.contains("sd(e_cost)"));
     assert!(doc.contains("island_estimate.saddle"));
+    // The prior/posterior densities follow the traces in the same document: one nested
+    // document each, and one panel title per quantity in the densities.
+    assert_eq!(
+        doc.matches("<svg").count(),
+        3,
+        "traces and densities nested in one"
+    );
+    let dens = &doc[doc
+        .find("Prior and posterior densities")
+        .expect("densities")..];
+    for q in ["theta", "phi_pi", "sd(e_dem)", "sd(e_rate)"] {
+        assert!(dens.contains(&format!(">{q}<")), "{q}");
+    }
+    assert!(dens.contains("stroke-dasharray"), "the mode is marked");
 }
 
 #[test]
