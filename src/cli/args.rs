@@ -279,6 +279,9 @@ pub struct ReportArgs {
     /// forecasts).
     #[arg(long, value_name = "PATH.csv")]
     pub data: Option<PathBuf>,
+    // Posterior draws: adds an estimation section (draws summary, impulse-response bands).
+    #[command(flatten)]
+    pub bands: super::bands::BandArgs,
 }
 
 #[derive(Debug, Args)]

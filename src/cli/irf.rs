@@ -150,7 +150,7 @@ pub fn run(args: IrfArgs) -> Result<Outcome, Failure> {
 }
 
 /// `irf --plot` with `--draws`: one panel per (innovation, variable) with the shaded band.
-fn band_chart(
+pub(super) fn band_chart(
     r: &saddle::analysis::irf::ImpulseResponses,
     point: &[Element],
     b: &Bands,

@@ -11,6 +11,7 @@ pub mod data_plot;
 mod data_plot_frame;
 pub mod data_report;
 pub mod estimate;
+pub mod estimate_report;
 pub mod irf;
 pub mod moments;
 pub mod ordered_json;

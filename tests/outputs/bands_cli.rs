@@ -299,3 +299,41 @@ fn filter_and_forecast_bands_and_merged_files() {
         v["periods"].as_array().unwrap().len()
     );
 }
+
+#[test]
+fn report_gains_an_estimation_section_from_draws() {
+    let dir = tempfile::tempdir().unwrap();
+    let f = draws_file(&dir, "five.csv", FIVE);
+    let page = dir.path().join("r.html");
+    let o = saddle(&["report", MODEL, "-o", page.to_str().unwrap(), "--draws", &f]);
+    assert_eq!(code(&o), 0, "{}", text(&o.stderr));
+    let h = std::fs::read_to_string(&page).unwrap();
+    assert!(h.contains("<a href=\"#estimation\">"));
+    let sec = &h[h.find("id=\"estimation\"").unwrap()..];
+    // rho_r over the five draws: mean 0.5, q50 0.5, q05 0.3 + 0.2 (0.1) = 0.32 (type 7).
+    assert!(
+        sec.contains("<tr><td>rho_r</td><td class=\"num\">0.5000</td>"),
+        "{}",
+        &sec[..1500.min(sec.len())]
+    );
+    assert!(sec.contains("<td class=\"num\">0.3200</td>"));
+    assert!(sec.contains("Posterior bands over all 5 draws"));
+    assert!(sec.contains("<svg"));
+    // A bad draws file: exit 1, no page.
+    let bad = draws_file(
+        &dir,
+        "bad.csv",
+        "seed,chain,draw,rho_r,logpost\n1,1,1,x,0\n",
+    );
+    let page2 = dir.path().join("r2.html");
+    let o = saddle(&[
+        "report",
+        MODEL,
+        "-o",
+        page2.to_str().unwrap(),
+        "--draws",
+        &bad,
+    ]);
+    assert_eq!(code(&o), 1);
+    assert!(!page2.exists());
+}

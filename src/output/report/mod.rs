@@ -90,6 +90,9 @@ pub struct ReportInput<'a> {
     pub policy_html: Option<String>,
     /// The data section (`--data`), already rendered by [`super::data_report::section`].
     pub data_section: Option<String>,
+    /// The estimation section (`--draws`), already rendered by
+    /// [`super::estimate_report::section`].
+    pub estimation_section: Option<String>,
 }
 
 /// Coefficients smaller than this fraction of the largest in their matrix are left out of the
@@ -149,6 +152,9 @@ calibrations can give different answers; check the calibration table before quot
     if input.data_section.is_some() {
         h.push_str("<li><a href=\"#data\">Data: filter, decomposition, forecasts</a></li>\n");
     }
+    if input.estimation_section.is_some() {
+        h.push_str("<li><a href=\"#estimation\">Estimation: posterior draws and bands</a></li>\n");
+    }
     h.push_str("</ol></nav>\n</header>\n<main>\n");
 
     section_summary(&mut h, input);
@@ -166,6 +172,9 @@ calibrations can give different answers; check the calibration table before quot
     }
     if let Some(d) = &input.data_section {
         h.push_str(d);
+    }
+    if let Some(e) = &input.estimation_section {
+        h.push_str(e);
     }
 
     h.push_str("</main>\n<footer>\n");
