@@ -210,6 +210,8 @@ pub struct IrfArgs {
     /// Also draw the responses as an SVG grid of panels.
     #[arg(long, value_name = "PATH.svg")]
     pub plot: Option<PathBuf>,
+    #[command(flatten)]
+    pub bands: super::bands::BandArgs,
     #[arg(long, value_enum, default_value_t = Format::Text)]
     pub format: Format,
     #[command(flatten)]
@@ -232,6 +234,8 @@ pub struct MomentsArgs {
     /// Forecast-error variance decomposition at these horizons (comma-separated).
     #[arg(long, value_name = "H,H,...", value_delimiter = ',')]
     pub horizons: Vec<u32>,
+    #[command(flatten)]
+    pub bands: super::bands::BandArgs,
     #[arg(long, value_enum, default_value_t = Format::Text)]
     pub format: Format,
     #[command(flatten)]
@@ -288,6 +292,9 @@ pub struct ReportArgs {
     /// forecasts).
     #[arg(long, value_name = "PATH.csv")]
     pub data: Option<PathBuf>,
+    // Posterior draws: adds an estimation section (draws summary, impulse-response bands).
+    #[command(flatten)]
+    pub bands: super::bands::BandArgs,
 }
 
 #[derive(Debug, Args)]
@@ -337,6 +344,9 @@ pub struct DataCommandArgs {
     /// Also draw the result as an SVG chart.
     #[arg(long, value_name = "PATH.svg")]
     pub plot: Option<PathBuf>,
+    // Posterior bands (`filter` and `forecast`; `decompose` refuses them).
+    #[command(flatten)]
+    pub bands: super::bands::BandArgs,
     #[arg(long, value_enum, default_value_t = Format::Text)]
     pub format: Format,
     #[command(flatten)]
@@ -377,9 +387,13 @@ pub struct EstimateArgs {
     /// Also draw the chains' traces as an SVG grid of panels.
     #[arg(long, value_name = "PATH.svg")]
     pub plot: Option<PathBuf>,
-    /// Write the kept draws as CSV while the chains run (chain,draw,quantities...,logpost).
+    /// Write the kept draws as CSV while the chains run (seed,chain,draw,quantities...,logpost).
     #[arg(long = "draws-out", value_name = "PATH.csv")]
     pub draws_out: Option<PathBuf>,
+    /// Run no chains: diagnose the draws in these files instead (files of `--draws-out` from
+    /// runs with other seeds or machines; chains are told apart by seed and chain number).
+    #[arg(long, value_name = "PATH.csv", num_args = 1.., conflicts_with = "draws_out")]
+    pub diagnose: Vec<PathBuf>,
     #[arg(long, value_enum, default_value_t = Format::Text)]
     pub format: Format,
     #[command(flatten)]

@@ -17,6 +17,11 @@ use saddle::output::data::{self as render};
 use saddle::output::data_plot;
 
 pub fn run(a: DataCommandArgs) -> Result<Outcome, Failure> {
+    if !a.bands.draws.is_empty() {
+        return Err(Failure::usage(
+            "decompose has no posterior bands (--draws works with irf, moments, filter and forecast)",
+        ));
+    }
     let run = match prepare(&a)? {
         Ok(r) => r,
         Err(outcome) => return Ok(outcome),

@@ -10,7 +10,6 @@ use std::path::Path;
 use std::sync::Mutex;
 
 use indicatif::{ProgressBar, ProgressDrawTarget, ProgressStyle};
-use sha2::{Digest, Sha256};
 
 use super::args::{EstimateArgs, Format};
 use super::config::SolveSettings;
@@ -23,12 +22,7 @@ use saddle::estimation::{
 };
 use saddle::output::estimate::{self as render, Provenance, SamplerRecord};
 
-fn hex_sha256(bytes: &[u8]) -> String {
-    Sha256::digest(bytes)
-        .iter()
-        .map(|b| format!("{b:02x}"))
-        .collect()
-}
+use saddle::output::provenance::sha256_hex as hex_sha256;
 
 /// The draws file: complete rows appended under a lock, each block in one write.
 struct FileSink(Mutex<std::fs::File>);
@@ -155,24 +149,62 @@ pub fn run(args: EstimateArgs) -> Result<Outcome, Failure> {
         starts: args.starts,
         ..ModeParams::default()
     };
-    let est = estimation::estimate(
-        &post,
-        &mode_params,
-        (args.draws > 0).then_some(&mcmc),
-        &DiagnosticParams::default(),
-        sink.as_ref().map(|s| s as &dyn DrawSink),
-        Some(&tick),
-    )
-    .map_err(estimation_failure)?;
+    let mut files = Vec::new();
+    let est = if args.diagnose.is_empty() {
+        estimation::estimate(
+            &post,
+            &mode_params,
+            (args.draws > 0).then_some(&mcmc),
+            &DiagnosticParams::default(),
+            sink.as_ref().map(|s| s as &dyn DrawSink),
+            Some(&tick),
+        )
+        .map_err(estimation_failure)?
+    } else {
+        let draws = read_draws_files(&args.diagnose, &mut files)?;
+        let chains = estimation::chains_from_draws(&post, &draws).map_err(|e| {
+            Failure::new(
+                Outcome::ModelError,
+                format!("--diagnose: {e}; nothing was written"),
+            )
+        })?;
+        let mode = estimation::find_mode(&post, &mode_params).map_err(estimation_failure)?;
+        let mut est = estimation::diagnose(&post, mode, Some(chains), &DiagnosticParams::default());
+        let longest = draws
+            .chains()
+            .iter()
+            .map(|(_, r)| r.len())
+            .max()
+            .unwrap_or(0);
+        let kept = est.chains.first().map_or(0, |c| c.x.nrows());
+        if longest > kept {
+            est.warnings.push(format!(
+                "the chains in the draws files have unequal lengths; each was cut to the shortest ({kept} draws, the longest has {longest})"
+            ));
+        }
+        est
+    };
     if let Some(b) = &bar {
         b.finish_and_clear();
     }
-    let record = SamplerRecord {
-        chains: if args.draws > 0 { args.chains } else { 0 },
-        draws: args.draws,
-        burn_in: args.burn_in,
-        seed: args.seed,
-        step: args.step,
+    let record = if files.is_empty() {
+        SamplerRecord {
+            chains: if args.draws > 0 { args.chains } else { 0 },
+            draws: args.draws,
+            burn_in: args.burn_in,
+            seed: args.seed,
+            step: args.step,
+            files,
+        }
+    } else {
+        SamplerRecord {
+            chains: est.chains.len(),
+            draws: est.chains.first().map_or(0, |c| c.x.nrows()),
+            burn_in: 0,
+            seed: args.seed,
+            step: args.step,
+            files,
+        }
     };
     let text = match args.format {
         Format::Json => render::json(&est, &post.quantities, &record, &prov),
@@ -185,7 +217,11 @@ pub fn run(args: EstimateArgs) -> Result<Outcome, Failure> {
                 "warning: --plot draws the chains' traces; with --draws 0 there are none",
             );
         } else {
-            super::output::write_atomic(p, render::trace_chart(&est, &prov).as_bytes())?;
+            let svg = render::stack_svg(&[
+                render::trace_chart(&est, &prov),
+                render::density_chart(&est, &post.quantities, &prov),
+            ]);
+            super::output::write_atomic(p, svg.as_bytes())?;
         }
     }
     if args.format == Format::Json || args.out.output.is_some() {
@@ -201,19 +237,39 @@ pub fn run(args: EstimateArgs) -> Result<Outcome, Failure> {
     Ok(Outcome::Success)
 }
 
-/// Creates the draws file with its header `chain,draw,NAME...,logpost` (written at once).
+/// Creates the draws file with its header `seed,chain,draw,NAME...,logpost` (written at once).
 fn open_draws(path: &Path, post: &Posterior) -> Result<FileSink, Failure> {
     let mut f = std::fs::File::create(path)
         .map_err(|e| Failure::usage(format!("cannot create {}: {e}", path.display())))?;
-    let mut header = String::from("chain,draw");
-    for q in &post.quantities {
-        header.push(',');
-        header.push_str(&q.name);
-    }
-    header.push_str(",logpost\n");
-    f.write_all(header.as_bytes())
+    let names: Vec<String> = post.quantities.iter().map(|q| q.name.clone()).collect();
+    f.write_all(estimation::draws::header(&names).as_bytes())
         .map_err(|e| Failure::usage(format!("cannot write {}: {e}", path.display())))?;
     Ok(FileSink(Mutex::new(f)))
+}
+
+/// Reads and merges the draws files of `--diagnose`; pushes each file's name and SHA-256 to
+/// `files`. A bad file is exit 1 with `PATH:line:column`.
+fn read_draws_files(
+    paths: &[std::path::PathBuf],
+    files: &mut Vec<(String, String)>,
+) -> Result<estimation::draws::Draws, Failure> {
+    let mut merged: Option<estimation::draws::Draws> = None;
+    for p in paths {
+        let bytes = super::bands::read_bounded(p)?;
+        let bad = |e: String| {
+            Failure::new(
+                Outcome::ModelError,
+                format!("draws file {}:{e}; nothing was written", p.display()),
+            )
+        };
+        let d = estimation::draws::read_draws(&bytes).map_err(|e| bad(e.to_string()))?;
+        files.push((p.display().to_string(), hex_sha256(&bytes)));
+        match &mut merged {
+            None => merged = Some(d),
+            Some(m) => m.merge(d).map_err(|e| bad(format!(" {e}")))?,
+        }
+    }
+    merged.ok_or_else(|| Failure::usage("--diagnose needs at least one draws file"))
 }
 
 /// A data error in words, with the bad cells listed.

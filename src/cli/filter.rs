@@ -21,6 +21,7 @@ use saddle::data::{read_data, DataError, DataSet, MAX_DATA_BYTES};
 use saddle::kalman::{
     model_state_space, KalmanError, KalmanParams, ModelStateSpace, ObservationError,
 };
+use saddle::output::bands_elements as elements;
 use saddle::output::data::{self as render, Names, Provenance};
 use saddle::output::data_plot;
 use saddle::output::solve as render_solve;
@@ -258,26 +259,74 @@ pub fn labels(run: &DataRun) -> (Vec<Option<String>>, Vec<Option<String>>) {
 }
 
 pub fn run(a: DataCommandArgs) -> Result<Outcome, Failure> {
-    let run = match prepare(&a)? {
+    let mut run = match prepare(&a)? {
         Ok(r) => r,
         Err(outcome) => return Ok(outcome),
     };
-    let r = saddle::data::run::run_filter(&run.ss, &run.data, &KalmanParams::default())
+    // A bad draws file stops the run before anything is written.
+    let settings = SolveSettings::from_args(&a.solve)?;
+    let draws = super::bands::load(&a.bands, &a.file, &settings)?;
+    let params = KalmanParams::default();
+    let r = saddle::data::run::run_filter(&run.ss, &run.data, &params)
         .map_err(|e| kalman_failure(e, &run))?;
-    let text = match a.format {
+    let mut banded = None;
+    if let Some(d) = &draws {
+        let point = elements::filter(&run.names.periods, &run.ss.variables, &run.ss.shocks, &r);
+        let data = &run.data;
+        let names = &run.names;
+        let b = super::bands::compute(d, &settings, &point, |model, solved| {
+            let ss = model_state_space(model, solved).map_err(|e| e.to_string())?;
+            let f = saddle::data::run::run_filter(&ss, data, &params).map_err(|e| e.to_string())?;
+            Ok(super::bands::values(&elements::filter(
+                &names.periods,
+                &ss.variables,
+                &ss.shocks,
+                &f,
+            )))
+        })?;
+        run.prov.draws = d.record.files.clone();
+        banded = Some((point, b, d));
+    }
+    let mut text = match a.format {
         Format::Text => render::filter_text(&run.names, &r, &run.prov),
         Format::Json => render::filter_json(&run.names, &r, &run.prov),
         Format::Csv => render::filter_csv(&run.names, &r),
     };
+    if let Some((point, b, d)) = &banded {
+        text = super::bands::attach(text, a.format, &elements::DATA_COLUMNS, point, b, &d.record);
+    }
     let svg = a.plot.as_ref().map(|_| {
-        let (obs_labels, _) = labels(&run);
-        data_plot::fit_chart(
-            &run.names,
-            &obs_labels,
-            &run.data.values,
-            &r.smoothed_observables,
-            &render::provenance_line(&run.prov),
-        )
+        let (obs_labels, var_labels) = labels(&run);
+        match &banded {
+            Some((point, b, d)) => {
+                let sub = |n: &str| {
+                    run.ss
+                        .variables
+                        .iter()
+                        .position(|v| v == n)
+                        .and_then(|i| var_labels.get(i).cloned().flatten())
+                };
+                let panels = super::bands::data_panels(point, b, "smoothed", &sub);
+                super::bands::chart(
+                    &format!(
+                        "{}: smoothed variables with posterior bands",
+                        run.names.title.as_deref().unwrap_or("Model")
+                    ),
+                    &run.names.periods,
+                    &panels,
+                    b,
+                    &d.record,
+                    &render::provenance_line(&run.prov),
+                )
+            }
+            None => data_plot::fit_chart(
+                &run.names,
+                &obs_labels,
+                &run.data.values,
+                &r.smoothed_observables,
+                &render::provenance_line(&run.prov),
+            ),
+        }
     });
     emit(a.out.output.as_deref(), text.as_bytes())?;
     if let (Some(path), Some(svg)) = (&a.plot, svg) {

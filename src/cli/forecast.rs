@@ -15,7 +15,8 @@ use super::filter::{kalman_failure, labels, prepare};
 use super::output::{emit, write_atomic};
 use super::{Failure, Outcome};
 use saddle::data::run::{future_labels, run_forecast};
-use saddle::kalman::KalmanParams;
+use saddle::kalman::{model_state_space, KalmanParams};
+use saddle::output::bands_elements as elements;
 use saddle::output::data::{self as render};
 use saddle::output::data_plot;
 
@@ -63,10 +64,13 @@ pub fn run(a: ForecastArgs) -> Result<Outcome, Failure> {
         .map(|s| parse_fix(s))
         .collect::<Result<Vec<_>, _>>()?;
     let c = &a.common;
-    let run = match prepare(c)? {
+    let mut run = match prepare(c)? {
         Ok(r) => r,
         Err(outcome) => return Ok(outcome),
     };
+    // A bad draws file stops the run before anything is written.
+    let settings = super::config::SolveSettings::from_args(&c.solve)?;
+    let draws = super::bands::load(&c.bands, &c.file, &settings)?;
     let p = run.ss.observables.len();
     let mut fixed = DMatrix::from_element(horizon, p, f64::NAN);
     let mut seen: Vec<&str> = Vec::new();
@@ -101,23 +105,69 @@ pub fn run(a: ForecastArgs) -> Result<Outcome, Failure> {
     .map_err(|e| kalman_failure(e, &run))?;
     let last = run.data.periods.last().map_or("0", |s| s.as_str());
     let periods = future_labels(last, horizon);
-    let text = match c.format {
+    let mut banded = None;
+    if let Some(d) = &draws {
+        let point = elements::forecast(&periods, &r);
+        let data = &run.data;
+        let b = super::bands::compute(d, &settings, &point, |model, solved| {
+            let ss = model_state_space(model, solved).map_err(|e| e.to_string())?;
+            let f = run_forecast(&ss, data, horizon, &fixed, &KalmanParams::default())
+                .map_err(|e| e.to_string())?;
+            Ok(super::bands::values(&elements::forecast(&periods, &f)))
+        })?;
+        run.prov.draws = d.record.files.clone();
+        banded = Some((point, b, d));
+    }
+    let mut text = match c.format {
         Format::Text => render::forecast_text(&run.names, &periods, &r, &fixes, &run.prov),
         Format::Json => render::forecast_json(&periods, &r, &fixes, &run.prov),
         Format::Csv => render::forecast_csv(&periods, &r),
     };
+    if let Some((point, b, d)) = &banded {
+        text = super::bands::attach(text, c.format, &elements::DATA_COLUMNS, point, b, &d.record);
+    }
     let svg = c.plot.as_ref().map(|_| {
         let (obs_labels, var_labels) = labels(&run);
-        data_plot::fan_chart(
-            &run.names,
-            &obs_labels,
-            &var_labels,
-            &run.data.values,
-            &periods,
-            &r,
-            &fixes,
-            &render::provenance_line(&run.prov),
-        )
+        match &banded {
+            Some((point, b, d)) => {
+                let sub = |n: &str| {
+                    run.ss
+                        .observables
+                        .iter()
+                        .position(|v| v == n)
+                        .and_then(|i| obs_labels.get(i).cloned().flatten())
+                        .or_else(|| {
+                            run.ss
+                                .variables
+                                .iter()
+                                .position(|v| v == n)
+                                .and_then(|i| var_labels.get(i).cloned().flatten())
+                        })
+                };
+                let panels = super::bands::data_panels(point, b, "mean", &sub);
+                super::bands::chart(
+                    &format!(
+                        "{}: forecast means with posterior bands",
+                        run.names.title.as_deref().unwrap_or("Model")
+                    ),
+                    &periods,
+                    &panels,
+                    b,
+                    &d.record,
+                    &render::provenance_line(&run.prov),
+                )
+            }
+            None => data_plot::fan_chart(
+                &run.names,
+                &obs_labels,
+                &var_labels,
+                &run.data.values,
+                &periods,
+                &r,
+                &fixes,
+                &render::provenance_line(&run.prov),
+            ),
+        }
     });
     emit(c.out.output.as_deref(), text.as_bytes())?;
     if let (Some(path), Some(svg)) = (&c.plot, svg) {

@@ -9,6 +9,10 @@ use super::output::{eprintln_quiet, write_atomic};
 use super::solve::{load_and_solve, outcome, print_timings};
 use super::{Failure, Outcome};
 use saddle::analysis::irf::{impulse_responses, ImpulseSize};
+use saddle::estimation::bands::Bands;
+use saddle::output::bands::{quantile_name, summary_line, DrawsRecord, Element};
+use saddle::output::bands_elements as elements;
+use saddle::output::bands_plot::{self, BandPanel};
 use saddle::output::irf as render;
 use saddle::output::svg::charts;
 
@@ -18,6 +22,8 @@ pub const DEFAULT_HORIZON: u32 = 40;
 pub fn run(args: IrfArgs) -> Result<Outcome, Failure> {
     let settings = SolveSettings::from_args(&args.solve)?;
     let s = load_and_solve(&args.file, &settings)?;
+    // A bad draws file stops the run before anything is written.
+    let draws = super::bands::load(&args.bands, &args.file, &settings)?;
     let names = s.model.shock_names();
     let mut shocks = Vec::new();
     for name in &args.shock {
@@ -74,8 +80,9 @@ pub fn run(args: IrfArgs) -> Result<Outcome, Failure> {
     }
     let r = impulse_responses(&s.solved, &shocks, size, horizon)
         .map_err(|e| Failure::usage(e.to_string()))?;
-    let r = match super::config::select_variables(&args.vars, &r.variables)? {
-        Some(rows) => r.select(&rows),
+    let rows = super::config::select_variables(&args.vars, &r.variables)?;
+    let r = match &rows {
+        Some(rows) => r.select(rows),
         None => r,
     };
     let text = match args.format {
@@ -84,22 +91,51 @@ pub fn run(args: IrfArgs) -> Result<Outcome, Failure> {
         Format::Csv => render::csv(&r),
     };
     let text = super::solve::with_regime(text, args.format, &s);
-    super::output::emit_traced(
-        args.out.output.as_deref(),
-        args.format,
-        &text,
-        &s.provenance,
-    )?;
+    let mut prov = s.provenance.clone();
+    let banded = match &draws {
+        Some(d) => {
+            let point = elements::irf(&r);
+            let b = super::bands::compute(d, &settings, &point, |_, solved| {
+                let r =
+                    impulse_responses(solved, &shocks, size, horizon).map_err(|e| e.to_string())?;
+                let r = match &rows {
+                    Some(rows) => r.select(rows),
+                    None => r,
+                };
+                Ok(super::bands::values(&elements::irf(&r)))
+            })?;
+            prov.draws = d.record.files.clone();
+            Some((point, b))
+        }
+        None => None,
+    };
+    let text = match (&banded, &draws) {
+        (Some((point, b)), Some(d)) => super::bands::attach(
+            text,
+            args.format,
+            &elements::IRF_COLUMNS,
+            point,
+            b,
+            &d.record,
+        ),
+        _ => text,
+    };
+    super::output::emit_traced(args.out.output.as_deref(), args.format, &text, &prov)?;
     if let Some(path) = &args.plot {
-        let grids = charts::impulse_response_grids(
-            &r.shocks,
-            &charts::shock_labels(&s.model, &r.shocks),
-            &r.variables,
-            &charts::variable_subtitles(&s.model, &r.variables, true),
-            &r.responses,
-            r.size.as_str(),
-        );
-        let svg = charts::impulse_response_chart(&grids, &s.provenance.text_line());
+        let svg = match (&banded, &draws) {
+            (Some((point, b)), Some(d)) => band_chart(&r, point, b, &d.record, &s, &prov),
+            _ => {
+                let grids = charts::impulse_response_grids(
+                    &r.shocks,
+                    &charts::shock_labels(&s.model, &r.shocks),
+                    &r.variables,
+                    &charts::variable_subtitles(&s.model, &r.variables, true),
+                    &r.responses,
+                    r.size.as_str(),
+                );
+                charts::impulse_response_chart(&grids, &prov.text_line())
+            }
+        };
         write_atomic(path, svg.as_bytes())?;
     }
     for w in &s.solved.warnings {
@@ -111,6 +147,53 @@ pub fn run(args: IrfArgs) -> Result<Outcome, Failure> {
         print_timings(&s, t0.elapsed());
     }
     Ok(outcome(&s.solved))
+}
+
+/// `irf --plot` with `--draws`: one panel per (innovation, variable) with the shaded band.
+pub(super) fn band_chart(
+    r: &saddle::analysis::irf::ImpulseResponses,
+    point: &[Element],
+    b: &Bands,
+    rec: &DrawsRecord,
+    s: &super::solve::Solved,
+    prov: &saddle::output::provenance::Provenance,
+) -> String {
+    let periods = r.horizon + 1;
+    let subtitles = charts::variable_subtitles(&s.model, &r.variables, true);
+    let mut panels = Vec::new();
+    for (k, shock) in r.shocks.iter().enumerate() {
+        for (i, v) in r.variables.iter().enumerate() {
+            let first = (k * r.variables.len() + i) * periods;
+            let span = first..first + periods;
+            panels.push(BandPanel {
+                title: format!("{v} after {shock}"),
+                subtitle: subtitles.get(i).cloned().flatten(),
+                point: point[span.clone()].iter().map(|e| e.value).collect(),
+                quantiles: (0..b.quantiles.len())
+                    .map(|q| b.values[span.clone()].iter().map(|v| v[q]).collect())
+                    .collect(),
+            });
+        }
+    }
+    let labels: Vec<String> = (0..periods).map(|h| h.to_string()).collect();
+    let names: Vec<String> = b.quantiles.iter().map(|&q| quantile_name(q)).collect();
+    bands_plot::band_chart(
+        &format!(
+            "{}: impulse responses with posterior bands",
+            s.solved.title.as_deref().unwrap_or("Model")
+        ),
+        &labels,
+        &panels,
+        &names,
+        &[
+            format!(
+                "Impulse: {}. {}",
+                charts::impulse_words(r.size.as_str()),
+                summary_line(b, rec)
+            ),
+            prov.text_line(),
+        ],
+    )
 }
 
 /// The name in `names` nearest to `name` by edit distance, if close enough to be a likely typo

@@ -7,6 +7,7 @@ pub mod args;
 pub mod config;
 pub mod output;
 
+mod bands;
 mod check;
 mod decompose;
 mod estimate;

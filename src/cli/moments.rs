@@ -11,6 +11,7 @@ use super::output::{eprintln_quiet, write_stdout};
 use super::solve::{load_and_solve, print_timings, Solved};
 use super::{Failure, Outcome};
 use saddle::analysis::moments::{moments, MomentsError, MAX_HORIZON, MAX_LAGS};
+use saddle::output::bands_elements as elements;
 use saddle::output::moments as render;
 
 /// Exit status and message for a library failure.
@@ -82,6 +83,8 @@ pub fn run(args: MomentsArgs) -> Result<Outcome, Failure> {
         )));
     }
     let s = load_and_solve(&args.file, &settings)?;
+    // A bad draws file stops the run before anything is written.
+    let draws = super::bands::load(&args.bands, &args.file, &settings)?;
     if s.solved.solution.is_none() {
         return not_determinate(&s, args.format, args.out.output.as_deref(), "moments");
     }
@@ -90,8 +93,9 @@ pub fn run(args: MomentsArgs) -> Result<Outcome, Failure> {
     // The solver's warnings travel with the moments (text notes and JSON `warnings`).
     let mut m = m;
     m.warnings.splice(0..0, s.solved.warnings.iter().cloned());
-    let m = match super::config::select_variables(&args.vars, &m.variables)? {
-        Some(rows) => m.select(&rows),
+    let rows = super::config::select_variables(&args.vars, &m.variables)?;
+    let m = match &rows {
+        Some(rows) => m.select(rows),
         None => m,
     };
     let text = match args.format {
@@ -99,13 +103,29 @@ pub fn run(args: MomentsArgs) -> Result<Outcome, Failure> {
         Format::Json => render::to_json(&m).to_pretty_string(),
         Format::Csv => render::to_csv(&m),
     };
-    let text = super::solve::with_regime(text, args.format, &s);
-    super::output::emit_traced(
-        args.out.output.as_deref(),
-        args.format,
-        &text,
-        &s.provenance,
-    )?;
+    let mut text = super::solve::with_regime(text, args.format, &s);
+    let mut prov = s.provenance.clone();
+    if let Some(d) = &draws {
+        let point = elements::moments(&m);
+        let b = super::bands::compute(d, &settings, &point, |_, solved| {
+            let m = moments(solved, lags, &horizons).map_err(|e| e.to_string())?;
+            let m = match &rows {
+                Some(rows) => m.select(rows),
+                None => m,
+            };
+            Ok(super::bands::values(&elements::moments(&m)))
+        })?;
+        prov.draws = d.record.files.clone();
+        text = super::bands::attach(
+            text,
+            args.format,
+            &elements::MOMENTS_COLUMNS,
+            &point,
+            &b,
+            &d.record,
+        );
+    }
+    super::output::emit_traced(args.out.output.as_deref(), args.format, &text, &prov)?;
     if settings.timings {
         print_timings(&s, t0.elapsed());
     }

@@ -31,6 +31,8 @@ pub fn run(args: ReportArgs) -> Result<Outcome, Failure> {
         )?),
         _ => None,
     };
+    // A bad draws file stops the run before the page is written.
+    let draws = super::bands::load(&args.bands, &args.file, &settings)?;
     let horizon = args
         .horizon
         .or(model.options.horizon)
@@ -130,6 +132,36 @@ pub fn run(args: ReportArgs) -> Result<Outcome, Failure> {
         Some(_) => Some(policy_section(&args.file, &settings)?),
         None => None,
     };
+    let estimation_section = match (&draws, &irf) {
+        (Some(d), Some(r)) => {
+            let point = saddle::output::bands_elements::irf(r);
+            let b = super::bands::compute(d, &settings, &point, |_, solved| {
+                let r = impulse_responses(solved, &[], ImpulseSize::OneSd, horizon)
+                    .map_err(|e| e.to_string())?;
+                Ok(super::bands::values(&saddle::output::bands_elements::irf(
+                    &r,
+                )))
+            })?;
+            let mut prov = s.provenance.clone();
+            prov.draws = d.record.files.clone();
+            let svg = super::irf::band_chart(r, &point, &b, &d.record, &s, &prov);
+            let number = 8 + usize::from(s.policy.is_some()) + usize::from(data_section.is_some());
+            Some(saddle::output::estimate_report::section(
+                &d.draws,
+                number,
+                &saddle::output::bands::summary_line(&b, &d.record),
+                Some(&svg),
+                &prov.text_line(),
+            ))
+        }
+        (Some(_), None) => {
+            super::output::eprintln_quiet(
+                "note: no estimation section: the model has no impulse responses to band",
+            );
+            None
+        }
+        _ => None,
+    };
     let html = render(&ReportInput {
         policy_html,
         source: &source,
@@ -161,6 +193,7 @@ pub fn run(args: ReportArgs) -> Result<Outcome, Failure> {
         moments_error,
         version: env!("CARGO_PKG_VERSION"),
         data_section,
+        estimation_section,
     });
     write_atomic(&args.output, html.as_bytes())?;
     Ok(outcome(solved))

@@ -79,7 +79,7 @@ impl Default for McmcParams {
     }
 }
 
-/// Where kept draws go while the chains run: complete CSV rows `chain,draw,x...,logpost`.
+/// Where kept draws go while the chains run: complete CSV rows `seed,chain,draw,x...,logpost`.
 pub trait DrawSink: Sync {
     /// Writes `rows` (complete lines) in one piece. Returns an error message on failure.
     fn write_rows(&self, rows: &str) -> Result<(), String>;
@@ -320,7 +320,7 @@ fn run_one(
             out_lq.push(lq);
             if sink.is_some() {
                 use std::fmt::Write;
-                let _ = write!(rows, "{},{}", chain + 1, k + 1);
+                let _ = write!(rows, "{},{},{}", params.seed, chain + 1, k + 1);
                 for v in &x {
                     let _ = write!(rows, ",{v:e}");
                 }

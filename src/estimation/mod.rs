@@ -13,7 +13,9 @@
 //! (1999) over the draws ([`harmonic_mean`]). Every reported number is in the quantities as
 //! written; the unconstrained coordinates of [`transform`] are used only inside.
 
+pub mod bands;
 pub mod diagnostics;
+pub mod draws;
 pub mod mcmc;
 pub mod mode;
 pub mod posterior;
@@ -250,13 +252,30 @@ pub fn estimate(
     progress: Option<&(dyn Fn(u64) + Sync)>,
 ) -> Result<Estimate, EstimationError> {
     let mode = find_mode(post, mode_params)?;
-    let mut warnings = mode.warnings.clone();
-    let names: Vec<String> = post.quantities.iter().map(|q| q.name.clone()).collect();
-    let (chains, summaries, harmonic) = match mcmc {
+    let chains = match mcmc {
         Some(p) => {
             let sz = proposal_covariance(post, &mode);
             let z = post.to_z(&mode.x);
-            let chains = run_chains(post, &z, &sz, p, sink, progress)?;
+            Some(run_chains(post, &z, &sz, p, sink, progress)?)
+        }
+        None => None,
+    };
+    Ok(diagnose(post, mode, chains, diag))
+}
+
+/// The estimate of `post` from a mode and chains already made (run here, or read from draws
+/// files by [`chains_from_draws`]): summaries, diagnostics and their warnings, the harmonic
+/// mean. `None` for chains: the mode only. Returns the whole [`Estimate`].
+pub fn diagnose(
+    post: &Posterior,
+    mode: Mode,
+    chains: Option<Vec<Chain>>,
+    diag: &DiagnosticParams,
+) -> Estimate {
+    let mut warnings = mode.warnings.clone();
+    let names: Vec<String> = post.quantities.iter().map(|q| q.name.clone()).collect();
+    let (chains, summaries, harmonic) = match chains {
+        Some(chains) => {
             let summaries = summarise(post.dim(), &chains);
             for (k, c) in chains.iter().enumerate() {
                 if c.acceptance == 0.0 {
@@ -299,7 +318,7 @@ pub fn estimate(
         }
         None => (Vec::new(), Vec::new(), None),
     };
-    Ok(Estimate {
+    Estimate {
         names,
         maximum_likelihood: post.all_flat(),
         mode,
@@ -307,5 +326,75 @@ pub fn estimate(
         summaries,
         harmonic,
         warnings,
-    })
+    }
+}
+
+/// Fewest kept draws per chain read from files (R-hat and ESS need at least 4).
+pub const MIN_FILE_DRAWS: usize = 4;
+
+/// The chains of a draws file (or merged files) for `post`: one per (seed, chain), rows in draw
+/// order, every chain cut to the shortest one's length (the diagnostics take chains of equal
+/// length). log q(z) = logpost + sum log |dx/dz| is recomputed from the file's `logpost`; the
+/// acceptance rate is the share of rows that differ from the row before. Errors: the files'
+/// quantities are not `post`'s (same names, same order), or a chain has fewer than
+/// [`MIN_FILE_DRAWS`] draws.
+pub fn chains_from_draws(
+    post: &Posterior,
+    draws: &draws::Draws,
+) -> Result<Vec<Chain>, EstimationError> {
+    let names: Vec<String> = post.quantities.iter().map(|q| q.name.clone()).collect();
+    if draws.names != names {
+        return Err(EstimationError::Settings(format!(
+            "the draws files hold {} but the model estimates {}",
+            draws.names.join(", "),
+            names.join(", ")
+        )));
+    }
+    let groups = draws.chains();
+    let n = groups.iter().map(|(_, r)| r.len()).min().unwrap_or(0);
+    if n < MIN_FILE_DRAWS {
+        return Err(EstimationError::Settings(format!(
+            "a chain in the draws files has {n} draws; at least {MIN_FILE_DRAWS} are needed"
+        )));
+    }
+    let d = names.len();
+    Ok(groups
+        .iter()
+        .map(|(_, rows)| {
+            let rows = &rows[..n];
+            let mut x = DMatrix::zeros(n, d);
+            let mut logpost = Vec::with_capacity(n);
+            let mut lq = Vec::with_capacity(n);
+            let mut moved = 0usize;
+            for (k, &r) in rows.iter().enumerate() {
+                for i in 0..d {
+                    x[(k, i)] = draws.x[r][i];
+                }
+                if k > 0 && draws.x[r] != draws.x[rows[k - 1]] {
+                    moved += 1;
+                }
+                let z = post.to_z(&draws.x[r]);
+                let jac: f64 = post
+                    .quantities
+                    .iter()
+                    .zip(&z)
+                    .map(|(q, &v)| q.transform.log_jacobian(v))
+                    .sum();
+                logpost.push(draws.logpost[r]);
+                lq.push(draws.logpost[r] + jac);
+            }
+            Chain {
+                x,
+                logpost,
+                log_density_z: lq,
+                acceptance: if n > 1 {
+                    moved as f64 / (n - 1) as f64
+                } else {
+                    0.0
+                },
+                burn_in_acceptance: f64::NAN,
+                started_at_mode: false,
+            }
+        })
+        .collect())
 }

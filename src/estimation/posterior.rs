@@ -19,7 +19,7 @@ use super::EstimationError;
 use crate::kalman::{self, KalmanError, KalmanParams, ObservationError};
 use crate::model::{Model, OverrideError, PriorTarget};
 use crate::policy::{solve_regime, PolicyError, PolicyParams, Regime};
-use crate::solution::{PreparedModel, SolveError, SolveOptions};
+use crate::solution::{PreparedModel, SolveError, SolveOptions, SolvedModel};
 
 /// One estimated quantity: a parameter or an sd, with its prior and its map to R.
 #[derive(Debug, Clone, PartialEq)]
@@ -215,55 +215,14 @@ impl Posterior {
 
     /// The model recalibrated at `x` (see the module doc). Returns it, or why it cannot be.
     pub fn model_at(&self, x: &[f64]) -> Result<Model, PointFailure> {
-        let overrides: Vec<(String, f64)> = self
-            .quantities
-            .iter()
-            .zip(x)
-            .filter(|(q, _)| matches!(q.target, PriorTarget::Parameter(_)))
-            .map(|(q, &v)| (q.name.clone(), v))
-            .collect();
-        let mut m = if overrides.is_empty() {
-            self.base.clone()
-        } else {
-            self.base
-                .with_overrides(&overrides)
-                .map_err(PointFailure::Override)?
-        };
-        for (q, &v) in self.quantities.iter().zip(x) {
-            match q.target {
-                PriorTarget::Parameter(_) => {}
-                PriorTarget::ShockSd(i) => set_sd(&mut m.covariance, i, v),
-                PriorTarget::MeasurementSd(i) => {
-                    let p = m.observables.len();
-                    if m.measurement_covariance.nrows() != p {
-                        m.measurement_covariance = DMatrix::zeros(p, p);
-                    }
-                    set_sd(&mut m.measurement_covariance, i, v)
-                }
-            }
-        }
-        Ok(m)
+        let targets: Vec<PriorTarget> = self.quantities.iter().map(|q| q.target).collect();
+        model_at(&self.base, &targets, x)
     }
 
     /// log L(data | model at x), or why it does not exist.
     pub fn loglik(&self, x: &[f64]) -> Result<f64, PointFailure> {
         let m = self.model_at(x)?;
-        let (model, solved) = match &self.prepared {
-            Some(prep) => {
-                let (s, _) = prep.solve(&m, &self.options).map_err(PointFailure::Solve)?;
-                (m, s)
-            }
-            None => {
-                let r = solve_regime(&m, self.regime, &self.options, &PolicyParams::default())
-                    .map_err(PointFailure::Policy)?;
-                (r.model, r.solved)
-            }
-        };
-        if solved.solution.is_none() {
-            return Err(PointFailure::NotDeterminate {
-                status: solved.status.as_str(),
-            });
-        }
+        let (model, solved) = solve_point(self.prepared.as_ref(), m, &self.options, self.regime)?;
         let ss = kalman::model_state_space(&model, &solved).map_err(PointFailure::Observation)?;
         let ll =
             kalman::loglik(&ss.system, &self.data, &self.kalman).map_err(PointFailure::Kalman)?;
@@ -330,6 +289,74 @@ impl Posterior {
             Err(_) => (f64::NEG_INFINITY, x, f64::NAN),
         }
     }
+}
+
+/// `base` with each target set to its value in `x` (module doc): parameters through
+/// [`Model::with_overrides`] (derived ones recomputed), standard deviations in the covariance
+/// matrices with their correlations kept. `base` is read only; returns the new model or why it
+/// cannot be made.
+pub fn model_at(base: &Model, targets: &[PriorTarget], x: &[f64]) -> Result<Model, PointFailure> {
+    let overrides: Vec<(String, f64)> = targets
+        .iter()
+        .zip(x)
+        .filter_map(|(t, &v)| match t {
+            PriorTarget::Parameter(i) => base.parameters.get(*i).map(|p| (p.name.clone(), v)),
+            _ => None,
+        })
+        .collect();
+    let mut m = if overrides.is_empty() {
+        base.clone()
+    } else {
+        base.with_overrides(&overrides)
+            .map_err(PointFailure::Override)?
+    };
+    for (t, &v) in targets.iter().zip(x) {
+        match *t {
+            PriorTarget::Parameter(_) => {}
+            PriorTarget::ShockSd(i) => set_sd(&mut m.covariance, i, v),
+            PriorTarget::MeasurementSd(i) => {
+                let p = m.observables.len();
+                if m.measurement_covariance.nrows() != p {
+                    m.measurement_covariance = DMatrix::zeros(p, p);
+                }
+                set_sd(&mut m.measurement_covariance, i, v)
+            }
+        }
+    }
+    Ok(m)
+}
+
+/// Solves `m` under `regime` (with `prepared`, the symbolic preparation of the model, for the
+/// rule regime; `None` builds what is needed). Returns the model as solved (an optimal regime
+/// adds multipliers) and its solution, or why there is no unique stable one.
+pub fn solve_point(
+    prepared: Option<&PreparedModel>,
+    m: Model,
+    options: &SolveOptions,
+    regime: Regime,
+) -> Result<(Model, SolvedModel), PointFailure> {
+    let (model, solved) = match (regime, prepared) {
+        (Regime::Rule, Some(prep)) => {
+            let (s, _) = prep.solve(&m, options).map_err(PointFailure::Solve)?;
+            (m, s)
+        }
+        (Regime::Rule, None) => {
+            let prep = PreparedModel::new(&m).map_err(PointFailure::Solve)?;
+            let (s, _) = prep.solve(&m, options).map_err(PointFailure::Solve)?;
+            (m, s)
+        }
+        _ => {
+            let r = solve_regime(&m, regime, options, &PolicyParams::default())
+                .map_err(PointFailure::Policy)?;
+            (r.model, r.solved)
+        }
+    };
+    if solved.solution.is_none() {
+        return Err(PointFailure::NotDeterminate {
+            status: solved.status.as_str(),
+        });
+    }
+    Ok((model, solved))
 }
 
 /// Sets the standard deviation of entry `i` of the covariance `c` to `sd`, keeping the

@@ -61,6 +61,19 @@ pub fn provenance_json(p: &Provenance) -> Json {
         fields.push(("data_file".into(), Json::String(file.clone())));
         fields.push(("data_sha256".into(), Json::String(sha.clone())));
     }
+    if !p.draws.is_empty() {
+        let d = p
+            .draws
+            .iter()
+            .map(|(f, sha)| {
+                Json::Object(vec![
+                    ("file".into(), Json::String(f.clone())),
+                    ("sha256".into(), Json::String(sha.clone())),
+                ])
+            })
+            .collect();
+        fields.push(("draws".into(), Json::Array(d)));
+    }
     Json::Object(fields)
 }
 

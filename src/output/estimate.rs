@@ -31,13 +31,16 @@ pub struct Provenance {
 }
 
 /// The sampler's settings, for the record.
-#[derive(Debug, Clone, Copy, PartialEq)]
+#[derive(Debug, Clone, PartialEq)]
 pub struct SamplerRecord {
     pub chains: usize,
     pub draws: usize,
     pub burn_in: usize,
     pub seed: u64,
     pub step: f64,
+    /// Draws files the chains were read from (`--diagnose`), with their SHA-256; empty when the
+    /// chains ran in this run.
+    pub files: Vec<(String, String)>,
 }
 
 /// A prior in words with its natural parameters, e.g. `beta(a = 3, b = 2) in [0.1, 0.9]`.
@@ -178,6 +181,21 @@ pub fn json(
                 ("burn_in".into(), Json::Integer(sampler.burn_in as i64)),
                 ("seed".into(), Json::String(sampler.seed.to_string())),
                 ("step".into(), Json::Number(sampler.step)),
+                (
+                    "files".into(),
+                    Json::Array(
+                        sampler
+                            .files
+                            .iter()
+                            .map(|(f, sha)| {
+                                Json::Object(vec![
+                                    ("file".into(), Json::String(f.clone())),
+                                    ("sha256".into(), Json::String(sha.clone())),
+                                ])
+                            })
+                            .collect(),
+                    ),
+                ),
             ]),
         ),
         (
@@ -265,7 +283,19 @@ pub fn text(
             number(e.mode.log_posterior, 4)
         ));
     }
-    if !e.chains.is_empty() {
+    if !e.chains.is_empty() && !sampler.files.is_empty() {
+        let files: Vec<String> = sampler
+            .files
+            .iter()
+            .map(|(f, sha)| format!("{f} (sha256 {})", sha.get(..12).unwrap_or(sha)))
+            .collect();
+        out.push_str(&format!(
+            "\nPosterior from {} chains x {} draws read from {}\n",
+            sampler.chains,
+            sampler.draws,
+            files.join(", ")
+        ));
+    } else if !e.chains.is_empty() {
         out.push_str(&format!(
             "\nPosterior from {} chains x {} draws (burn-in {}, seed {})\n",
             sampler.chains, sampler.draws, sampler.burn_in, sampler.seed
@@ -378,5 +408,143 @@ pub fn trace_chart(e: &Estimate, prov: &Provenance) -> String {
             notes,
             ..GridOptions::default()
         },
+    )
+}
+
+/// Bins of the posterior histogram in [`density_chart`].
+pub const DENSITY_BINS: usize = 40;
+
+/// Prior against posterior, one panel per quantity: the histogram of the kept draws as a
+/// density (bars: count / (draws x bin width), 40 bins over the draws' range widened by a tenth
+/// on each side and kept inside the support), the prior density at the bin centres (a line;
+/// none for `flat()`), and the mode as a dashed vertical line. Returns the SVG document.
+pub fn density_chart(e: &Estimate, quantities: &[Quantity], prov: &Provenance) -> String {
+    use super::data_plot_frame::{Frame, FrameGrid};
+    let mut frames = Vec::new();
+    let mut labels = Vec::new();
+    for (i, q) in quantities.iter().enumerate() {
+        let mut all: Vec<f64> = e
+            .chains
+            .iter()
+            .flat_map(|c| c.x.column(i).iter().copied().collect::<Vec<f64>>())
+            .filter(|v| v.is_finite())
+            .collect();
+        all.sort_by(f64::total_cmp);
+        let (Some(&min), Some(&max)) = (all.first(), all.last()) else {
+            continue;
+        };
+        let pad = ((max - min) * 0.1).max(1e-9 * max.abs().max(1.0));
+        let lo = (min - pad).max(q.lo);
+        let hi = (max + pad).min(q.hi);
+        let w = (hi - lo) / DENSITY_BINS as f64;
+        let mut counts = vec![0usize; DENSITY_BINS];
+        for v in &all {
+            let k = (((v - lo) / w).floor().max(0.0) as usize).min(DENSITY_BINS - 1);
+            counts[k] += 1;
+        }
+        let n = all.len() as f64;
+        let bars: Vec<Vec<(f64, f64, &'static str)>> = counts
+            .iter()
+            .map(|&c| vec![(0.0, c as f64 / (n * w), "#9ECAE1")])
+            .collect();
+        let centres: Vec<f64> = (0..DENSITY_BINS)
+            .map(|k| lo + (k as f64 + 0.5) * w)
+            .collect();
+        let prior: Vec<f64> = if q.prior.is_flat() {
+            Vec::new()
+        } else {
+            centres
+                .iter()
+                .map(|&x| q.prior.log_density(x).exp())
+                .collect()
+        };
+        let top = bars
+            .iter()
+            .map(|b| b[0].1)
+            .chain(prior.iter().copied())
+            .filter(|v| v.is_finite())
+            .fold(0.0, f64::max);
+        let mode = e.mode.x.get(i).copied().unwrap_or(f64::NAN);
+        let mode_x = (mode - lo) / w - 0.5;
+        let mut lines = Vec::new();
+        if !prior.is_empty() {
+            lines.push((prior, "#D55E00".to_string(), 0));
+        }
+        frames.push(Frame {
+            title: q.name.clone(),
+            subtitle: Some(format!(
+                "from {} to {}; mode {}",
+                number(lo, 4),
+                number(hi, 4),
+                number(mode, 4)
+            )),
+            lo: 0.0,
+            hi: if top > 0.0 { top } else { 1.0 },
+            n_periods: DENSITY_BINS,
+            first_x: 0,
+            bars,
+            bands: Vec::new(),
+            lines,
+            dots: Vec::new(),
+            divider: (mode_x.is_finite() && mode_x >= -0.5 && mode_x <= DENSITY_BINS as f64 - 0.5)
+                .then_some(mode_x),
+        });
+        if labels.is_empty() {
+            labels = (0..DENSITY_BINS)
+                .map(|k| format!("bin {}", k + 1))
+                .collect();
+        }
+    }
+    FrameGrid {
+        title: "Prior and posterior densities".to_string(),
+        legend: vec![
+            ("posterior (histogram of the draws)".to_string(), "#9ECAE1".to_string(), true),
+            ("prior density".to_string(), "#D55E00".to_string(), false),
+            ("mode (dashed)".to_string(), "#595959".to_string(), false),
+        ],
+        frames,
+        period_labels: labels,
+        notes: vec![
+            format!(
+                "Each panel runs over the range in its subtitle, in {DENSITY_BINS} bins. {} (sha256 {}), data {} (sha256 {}), saddle {}.",
+                prov.file,
+                &prov.sha256[..prov.sha256.len().min(12)],
+                prov.data_file,
+                &prov.data_sha256[..prov.data_sha256.len().min(12)],
+                prov.version
+            ),
+            "Results are conditional on the model, the priors and the data.".to_string(),
+        ],
+    }
+    .render()
+}
+
+/// SVG documents stacked vertically into one (each kept whole as a nested `<svg>` placed at
+/// its offset); a document whose size cannot be read is left out.
+pub fn stack_svg(docs: &[String]) -> String {
+    let attr = |tag: &str, name: &str| -> Option<f64> {
+        let key = format!(" {name}=\"");
+        let start = tag.find(&key)? + key.len();
+        let end = tag[start..].find('"')? + start;
+        tag[start..end].parse().ok()
+    };
+    let mut body = String::new();
+    let (mut width, mut height) = (0.0f64, 0.0f64);
+    for d in docs {
+        let Some(at) = d.find("<svg") else { continue };
+        let Some(close) = d[at..].find('>') else {
+            continue;
+        };
+        let tag = &d[at..at + close];
+        let (Some(w), Some(h)) = (attr(tag, "width"), attr(tag, "height")) else {
+            continue;
+        };
+        body.push_str(&format!("<svg x=\"0\" y=\"{height}\"{}", &d[at + 4..]));
+        body.push('\n');
+        width = width.max(w);
+        height += h;
+    }
+    format!(
+        "<svg xmlns=\"http://www.w3.org/2000/svg\" width=\"{width}\" height=\"{height}\" viewBox=\"0 0 {width} {height}\">\n{body}</svg>\n"
     )
 }

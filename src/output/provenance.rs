@@ -1,7 +1,7 @@
 //! Where an output came from (cli.md, "Every output says where it came from"): the model file and
 //! its SHA-256, the program version, the `--set` overrides exactly as given, every parameter's
 //! value as used, the stability threshold and the policy regime, and, for the data commands, the
-//! data file and its SHA-256.
+//! data file and its SHA-256 (and for outputs with posterior bands, the draws files and theirs).
 //!
 //! JSON outputs carry it as `"provenance"`; text outputs end with [`Provenance::text_line`]; a
 //! CSV written to a file gets it beside the file (`out.csv.json`); pictures put the text line in a
@@ -30,6 +30,8 @@ pub struct Provenance {
     pub regime: String,
     /// The data file and its SHA-256, for the data commands.
     pub data: Option<(String, String)>,
+    /// The posterior draws files and their SHA-256, for outputs with bands (`--draws`).
+    pub draws: Vec<(String, String)>,
 }
 
 /// SHA-256 of `bytes` in lowercase hexadecimal.
@@ -62,6 +64,7 @@ impl Provenance {
             threshold,
             regime: regime.to_string(),
             data: None,
+            draws: Vec::new(),
         }
     }
 
@@ -98,6 +101,14 @@ impl Provenance {
             o.insert("data_file".into(), file.clone().into());
             o.insert("data_sha256".into(), sha.clone().into());
         }
+        if !self.draws.is_empty() {
+            let d: Vec<serde_json::Value> = self
+                .draws
+                .iter()
+                .map(|(f, sha)| serde_json::json!({"file": f, "sha256": sha}))
+                .collect();
+            o.insert("draws".into(), serde_json::Value::Array(d));
+        }
         serde_json::Value::Object(o)
     }
 
@@ -129,6 +140,12 @@ impl Provenance {
         if let Some((file, sha)) = &self.data {
             s.push_str(&format!(
                 "; data {file} (sha256 {})",
+                sha.get(..12).unwrap_or(sha)
+            ));
+        }
+        for (file, sha) in &self.draws {
+            s.push_str(&format!(
+                "; draws {file} (sha256 {})",
                 sha.get(..12).unwrap_or(sha)
             ));
         }

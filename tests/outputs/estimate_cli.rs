@@ -77,7 +77,7 @@ fn same_seed_same_draws_and_the_draws_file_is_complete() {
     let csv = std::fs::read_to_string(&path).unwrap();
     let mut lines = csv.lines();
     let header = lines.next().unwrap();
-    assert!(header.starts_with("chain,draw,theta,"));
+    assert!(header.starts_with("seed,chain,draw,theta,"));
     assert!(header.ends_with(",logpost"));
     let cols = header.split(',').count();
     let rows: Vec<&str> = lines.collect();
@@ -118,6 +118,20 @@ fn text_says_what_results_are_conditional_on_and_plot_draws_traces() {
     assert!(doc.starts_with("<svg") || doc.starts_with("<?xml"));
     assert!(doc.contains("chain 2") && doc.contains("sd(e_cost)"));
     assert!(doc.contains("island_estimate.saddle"));
+    // The prior/posterior densities follow the traces in the same document: one nested
+    // document each, and one panel title per quantity in the densities.
+    assert_eq!(
+        doc.matches("<svg").count(),
+        3,
+        "traces and densities nested in one"
+    );
+    let dens = &doc[doc
+        .find("Prior and posterior densities")
+        .expect("densities")..];
+    for q in ["theta", "phi_pi", "sd(e_dem)", "sd(e_rate)"] {
+        assert!(dens.contains(&format!(">{q}<")), "{q}");
+    }
+    assert!(dens.contains("stroke-dasharray"), "the mode is marked");
 }
 
 #[test]
@@ -184,4 +198,61 @@ fn bad_input_gets_the_documented_exit_status() {
     assert_eq!(code(&o), 3, "{}", text(&o.stderr));
     let v: serde_json::Value = serde_json::from_str(&text(&o.stdout)).unwrap();
     assert_eq!(v["status"], "indeterminate");
+}
+
+#[test]
+fn diagnosing_the_draws_files_repeats_the_runs_diagnostics_and_merges_runs() {
+    let dir = tempfile::tempdir().unwrap();
+    let a = dir.path().join("a.csv");
+    let b = dir.path().join("b.csv");
+    let (c, run_a, e) = run_json(&["--seed", "5", "--draws-out", a.to_str().unwrap()]);
+    assert_eq!(c, 0, "{e}");
+    let (c, _, e) = run_json(&["--seed", "6", "--draws-out", b.to_str().unwrap()]);
+    assert_eq!(c, 0, "{e}");
+    // The file holds the run's draws exactly (shortest round-trip numbers), split into the same
+    // chains: the summaries and diagnostics are the run's own.
+    let (c, diag_a, e) = run_json(&["--diagnose", a.to_str().unwrap()]);
+    assert_eq!(c, 0, "{e}");
+    assert_eq!(diag_a["posterior"], run_a["posterior"]);
+    assert_eq!(diag_a["sampler"]["chains"], 2);
+    assert_eq!(
+        diag_a["sampler"]["files"][0]["sha256"]
+            .as_str()
+            .unwrap()
+            .len(),
+        64
+    );
+    // Two runs (seeds 5 and 6): four chains, whether given as two files or concatenated.
+    let (c, two, e) = run_json(&["--diagnose", a.to_str().unwrap(), b.to_str().unwrap()]);
+    assert_eq!(c, 0, "{e}");
+    assert_eq!(two["sampler"]["chains"], 4);
+    assert_eq!(two["acceptance"].as_array().unwrap().len(), 4);
+    let cat = dir.path().join("cat.csv");
+    let mut both = std::fs::read(&a).unwrap();
+    both.extend(std::fs::read(&b).unwrap());
+    std::fs::write(&cat, both).unwrap();
+    let (c, merged, e) = run_json(&["--diagnose", cat.to_str().unwrap()]);
+    assert_eq!(c, 0, "{e}");
+    assert_eq!(merged["posterior"], two["posterior"]);
+    assert_ne!(two["posterior"], run_a["posterior"]);
+    // A bad file: exit 1 with its line and column, nothing on stdout.
+    let bad = dir.path().join("bad.csv");
+    std::fs::write(&bad, "seed,chain,draw,theta,logpost\n1,1,x,0.5,-3\n").unwrap();
+    let o = saddle(&[
+        "estimate",
+        MODEL,
+        "--data",
+        DATA,
+        "--starts",
+        "1",
+        "--diagnose",
+        bad.to_str().unwrap(),
+    ]);
+    assert_eq!(code(&o), 1);
+    assert!(
+        text(&o.stderr).contains("bad.csv:2:3 (draw)"),
+        "{}",
+        text(&o.stderr)
+    );
+    assert!(o.stdout.is_empty());
 }

@@ -7,6 +7,7 @@ mod support;
 
 mod analysis_cli;
 mod analysis_output;
+mod bands_cli;
 mod data_cli;
 mod estimate_cli;
 mod output_contract;

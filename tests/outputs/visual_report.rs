@@ -226,6 +226,7 @@ fn input_for<'a>(
         moments_error: None,
         version: "0.1.0",
         data_section: None,
+        estimation_section: None,
     }
 }
 
