@@ -15,7 +15,7 @@ use super::rotation::{rotate_columns, rotate_rows, Entry, Rotation};
 /// Overwrites the n x n column-major `a`, `b` with `H = Q^H A Z` (upper Hessenberg) and
 /// `T = Q^H B Z` (upper triangular, entries below the diagonal set to exact zero), and
 /// overwrites `q`, `z` (which must hold the identity or any unitary matrices on entry) with
-/// `q Q`, `z Z`. Only the active block `ilo..=ihi` is reduced: on entry the rows and columns
+/// `q Q`, `z Z` (`q` may be empty: then Q is not accumulated). Only the active block `ilo..=ihi` is reduced: on entry the rows and columns
 /// outside it must already be in triangular form (as left by [`super::balance::permute`]:
 /// `a`, `b` zero below the diagonal in columns `< ilo` and in rows `> ihi`); the rotations are
 /// applied to whole rows and columns so that the equivalence holds for the full matrices.
@@ -133,7 +133,10 @@ fn householder_triangularize<E: Entry>(
         for x in &mut b[k * n + k + 1..k * n + end] {
             *x = E::zero();
         }
-        // q <- q - tau (q v) v^H on columns k..n.
+        // q <- q - tau (q v) v^H on columns k..n (skipped when q is empty: not accumulated).
+        if q.is_empty() {
+            continue;
+        }
         let w = &mut w[..n];
         w.iter_mut().for_each(|x| *x = E::zero());
         for (i, vi) in v.iter().enumerate() {
@@ -176,7 +179,9 @@ fn givens_hessenberg<E: Entry>(
             a[jcol * n + jrow] = E::zero();
             rotate_rows(a, n, jrow - 1, jcol + 1..n, g);
             rotate_rows(b, n, jrow - 1, jrow - 1..n, g);
-            rotate_columns(q, n, jrow - 1, jrow, 0..n, g.for_left_accumulation());
+            if !q.is_empty() {
+                rotate_columns(q, n, jrow - 1, jrow, 0..n, g.for_left_accumulation());
+            }
             // Column rotation on (jrow, jrow-1) kills the fill b[jrow, jrow-1].
             let (g, r) = Rotation::zeroing(b[jrow * n + jrow], b[(jrow - 1) * n + jrow]);
             b[jrow * n + jrow] = r;

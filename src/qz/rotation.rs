@@ -40,6 +40,8 @@ pub(crate) trait Entry:
     fn unscale(self, r: f64) -> Self;
     /// Whether every component is finite.
     fn is_finite_entry(self) -> bool;
+    /// `|re| + |im|` (the absolute value for reals), the cheap modulus of deflation tests.
+    fn abs1(self) -> f64;
     /// The value as a complex number.
     fn to_c64(self) -> C64;
     /// Kernel behind [`rotate_pair`]; complex overrides it with a SIMD version.
@@ -94,6 +96,10 @@ impl Entry for f64 {
         self.is_finite()
     }
     #[inline(always)]
+    fn abs1(self) -> f64 {
+        self.abs()
+    }
+    #[inline(always)]
     fn to_c64(self) -> C64 {
         C64::new(self, 0.0)
     }
@@ -138,6 +144,10 @@ impl Entry for C64 {
     #[inline(always)]
     fn is_finite_entry(self) -> bool {
         self.re.is_finite() && self.im.is_finite()
+    }
+    #[inline(always)]
+    fn abs1(self) -> f64 {
+        abs1(self)
     }
     #[inline(always)]
     fn to_c64(self) -> C64 {
