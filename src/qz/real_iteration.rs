@@ -232,6 +232,7 @@ impl Work<'_, f64> {
 /// either 1x1, 2x2, or (only after the budget of `max_sweeps_per_eigenvalue * size / 2` sweeps,
 /// or [`STALL_SWEEPS`] sweeps without a deflation) larger; `t` stays upper triangular. Never
 /// fails: whatever is left is finished by the complex iteration.
+#[allow(clippy::too_many_arguments)]
 pub(crate) fn real_qz_reduce(
     h: &mut [f64],
     t: &mut [f64],

@@ -44,6 +44,20 @@ pub(crate) trait Entry:
     fn abs1(self) -> f64;
     /// The value as a complex number.
     fn to_c64(self) -> C64;
+    /// Householder QR stage of the Hessenberg-triangular reduction (see
+    /// [`super::hessenberg::householder_triangularize`]); real input overrides it with the
+    /// blocked version.
+    #[inline(always)]
+    fn triangularize(
+        a: &mut [Self],
+        b: &mut [Self],
+        q: &mut [Self],
+        n: usize,
+        ilo: usize,
+        ihi: usize,
+    ) {
+        super::hessenberg::householder_triangularize(a, b, q, n, ilo, ihi);
+    }
     /// Kernel behind [`rotate_pair`]; complex overrides it with a SIMD version.
     #[inline(always)]
     fn rot_pair(x: &mut [Self], y: &mut [Self], g: Rotation<Self>) {
@@ -98,6 +112,17 @@ impl Entry for f64 {
     #[inline(always)]
     fn abs1(self) -> f64 {
         self.abs()
+    }
+    #[inline(always)]
+    fn triangularize(
+        a: &mut [f64],
+        b: &mut [f64],
+        q: &mut [f64],
+        n: usize,
+        ilo: usize,
+        ihi: usize,
+    ) {
+        super::hessenberg::householder_triangularize_blocked(a, b, q, n, ilo, ihi);
     }
     #[inline(always)]
     fn to_c64(self) -> C64 {
