@@ -401,9 +401,20 @@ mod tests {
     /// Reduction + real sweeps rebuild A and B within 10 n eps of their norms (the bound of the
     /// complex iteration's test), H ends upper quasi-triangular with blocks of at most 2x2
     /// (exact zeros below the subdiagonal and at every split), T exactly upper triangular; with
-    /// zero rows in B (zero pivots of T chased and deflated) and without.
+    /// zero rows in B (zero pivots of T chased and deflated) and without; with the default
+    /// exceptional-shift period and with an exceptional shift every 2nd or 3rd sweep.
     #[test]
     fn real_sweeps_rebuild_pencil() {
+        for period in [10usize, 2, 3] {
+            rebuild_with_period(period);
+        }
+    }
+
+    fn rebuild_with_period(period: usize) {
+        let params = QzParams {
+            exceptional_shift_period: period,
+            ..QzParams::default()
+        };
         for (n, zero_rows) in [
             (3usize, false),
             (4, true),
@@ -430,7 +441,7 @@ mod tests {
                 z.as_mut_slice(),
             );
             reduce(hs, ts, qs, zs, n, 0, n - 1);
-            real_qz_reduce(hs, ts, qs, zs, n, 0, n - 1, &QzParams::default());
+            real_qz_reduce(hs, ts, qs, zs, n, 0, n - 1, &params);
             for j in 0..n {
                 for i in j + 1..n {
                     assert_eq!(t[(i, j)], 0.0, "n={n}: t({i},{j})");
@@ -442,7 +453,7 @@ mod tests {
             for j in 1..n - 1 {
                 assert!(
                     h[(j, j - 1)] == 0.0 || h[(j + 1, j)] == 0.0,
-                    "n={n}: unreduced block larger than 2x2 at {j}"
+                    "n={n}, period {period}: unreduced block larger than 2x2 at {j}"
                 );
             }
             let tol = 10.0 * n as f64 * f64::EPSILON;
