@@ -78,7 +78,8 @@ pub(crate) fn permute<E: Entry>(
         }
     };
     let swap_cols = |m: &mut [E], j: usize, k: usize| {
-        if j != k {
+        // An empty `m` is a factor that is not accumulated.
+        if j != k && !m.is_empty() {
             let (x, y) = super::rotation::two_columns(m, n, j, k);
             x.swap_with_slice(y);
         }

@@ -67,6 +67,8 @@ pub enum QzError {
         leading: usize,
     },
     /// A [`QzParams`](super::QzParams) field is outside its documented range.
+    #[error("the left factor Q was not accumulated (QzParams::accumulate_q is false), so the backward error cannot be formed")]
+    NoLeftFactor,
     #[error("invalid QZ parameter: {0}")]
     InvalidParams(String),
 }

@@ -15,7 +15,7 @@ use super::rotation::{rotate_columns, rotate_rows, Entry, Rotation};
 /// Overwrites the n x n column-major `a`, `b` with `H = Q^H A Z` (upper Hessenberg) and
 /// `T = Q^H B Z` (upper triangular, entries below the diagonal set to exact zero), and
 /// overwrites `q`, `z` (which must hold the identity or any unitary matrices on entry) with
-/// `q Q`, `z Z`. Only the active block `ilo..=ihi` is reduced: on entry the rows and columns
+/// `q Q`, `z Z` (`q` may be empty: then Q is not accumulated). Only the active block `ilo..=ihi` is reduced: on entry the rows and columns
 /// outside it must already be in triangular form (as left by [`super::balance::permute`]:
 /// `a`, `b` zero below the diagonal in columns `< ilo` and in rows `> ihi`); the rotations are
 /// applied to whole rows and columns so that the equivalence holds for the full matrices.
@@ -57,7 +57,7 @@ unsafe fn reduce_avx2<E: Entry>(
     ilo: usize,
     ihi: usize,
 ) {
-    householder_triangularize(a, b, q, n, ilo, ihi);
+    E::triangularize(a, b, q, n, ilo, ihi);
     givens_hessenberg(a, b, q, z, n, ilo, ihi);
 }
 
@@ -70,7 +70,7 @@ fn reduce_portable<E: Entry>(
     ilo: usize,
     ihi: usize,
 ) {
-    householder_triangularize(a, b, q, n, ilo, ihi);
+    E::triangularize(a, b, q, n, ilo, ihi);
     givens_hessenberg(a, b, q, z, n, ilo, ihi);
 }
 
@@ -80,7 +80,7 @@ fn reduce_portable<E: Entry>(
 /// Hermitian `H = I - tau v v^H` with real `tau = 1 / (v^H x)` mapping the column `x` to
 /// `-(x_0/|x_0|) ||x|| e_1`.
 #[inline(always)]
-fn householder_triangularize<E: Entry>(
+pub(crate) fn householder_triangularize<E: Entry>(
     a: &mut [E],
     b: &mut [E],
     q: &mut [E],
@@ -133,7 +133,10 @@ fn householder_triangularize<E: Entry>(
         for x in &mut b[k * n + k + 1..k * n + end] {
             *x = E::zero();
         }
-        // q <- q - tau (q v) v^H on columns k..n.
+        // q <- q - tau (q v) v^H on columns k..n (skipped when q is empty: not accumulated).
+        if q.is_empty() {
+            continue;
+        }
         let w = &mut w[..n];
         w.iter_mut().for_each(|x| *x = E::zero());
         for (i, vi) in v.iter().enumerate() {
@@ -149,6 +152,107 @@ fn householder_triangularize<E: Entry>(
                 *cr = *cr - *wr * f;
             }
         }
+    }
+}
+
+/// Panel width of [`householder_triangularize_blocked`]: 32 reflectors per block (common
+/// practice for compact-WY blocking; the products are then large enough for a tuned GEMM).
+const QR_PANEL: usize = 32;
+/// Below this active size the unblocked QR is used (blocking does not pay).
+const QR_BLOCKED_MIN: usize = 96;
+
+/// The real Householder stage of [`householder_triangularize`] (same result up to rounding), in
+/// panels of [`QR_PANEL`] columns: each panel of `b` is factored with unblocked reflectors
+/// `H_i = I - tau_i v_i v_i^T`, whose product is `H = I - V T V^T` (compact WY form, Schreiber
+/// and Van Loan 1989; T upper triangular by `T[..i, i] = -tau_i T[..i, ..i] V[:, ..i]^T v_i`);
+/// then `H^T` is applied to the rest of `b` and to `a`, and `q <- q H`, by matrix products.
+/// Overwrites `a`, `b`, `q` (`q` may be empty: not accumulated).
+pub(crate) fn householder_triangularize_blocked(
+    a: &mut [f64],
+    b: &mut [f64],
+    q: &mut [f64],
+    n: usize,
+    ilo: usize,
+    ihi: usize,
+) {
+    use nalgebra::{DMatrix, DMatrixViewMut};
+    if ihi + 1 - ilo < QR_BLOCKED_MIN {
+        householder_triangularize(a, b, q, n, ilo, ihi);
+        return;
+    }
+    let end = ihi + 1;
+    let mut k0 = ilo;
+    while k0 < ihi {
+        let nb = QR_PANEL.min(ihi - k0);
+        let m = end - k0;
+        let mut v = DMatrix::<f64>::zeros(m, nb);
+        let mut taus = vec![0.0; nb];
+        for p in 0..nb {
+            let k = k0 + p;
+            let col = &b[k * n + k..k * n + end];
+            let tail: f64 = col[1..].iter().map(|x| x * x).sum();
+            if tail == 0.0 {
+                continue;
+            }
+            let alpha = col[0];
+            let aalpha = alpha.abs();
+            let xnorm = (aalpha * aalpha + tail).sqrt();
+            let beta = if alpha >= 0.0 { -xnorm } else { xnorm };
+            let tau = 1.0 / (xnorm * (xnorm + aalpha));
+            {
+                let vc = &mut v.as_mut_slice()[p * m + p..(p + 1) * m];
+                vc.copy_from_slice(col);
+                vc[0] = alpha - beta;
+            }
+            taus[p] = tau;
+            let vc = &v.as_slice()[p * m + p..(p + 1) * m];
+            for j in k + 1..k0 + nb {
+                let c = &mut b[j * n + k..j * n + end];
+                let dot: f64 = vc.iter().zip(c.iter()).map(|(x, y)| x * y).sum();
+                let f = dot * tau;
+                for (vi, ci) in vc.iter().zip(c.iter_mut()) {
+                    *ci -= vi * f;
+                }
+            }
+            b[k * n + k] = beta;
+            for x in &mut b[k * n + k + 1..k * n + end] {
+                *x = 0.0;
+            }
+        }
+        let mut t = DMatrix::<f64>::zeros(nb, nb);
+        for p in 0..nb {
+            t[(p, p)] = taus[p];
+            if p > 0 && taus[p] != 0.0 {
+                let w = v.columns(0, p).transpose() * v.column(p);
+                let z = t.view((0, 0), (p, p)) * w * (-taus[p]);
+                t.view_mut((0, p), (p, 1)).copy_from(&z);
+            }
+        }
+        // C <- H^T C = C - V T^T (V^T C) on rows k0..end of the given columns.
+        let apply_left = |mat: &mut [f64], cols: std::ops::Range<usize>| {
+            if cols.start >= cols.end {
+                return;
+            }
+            let mut c = DMatrixViewMut::from_slice_with_strides_mut(
+                &mut mat[cols.start * n + k0..],
+                m,
+                cols.end - cols.start,
+                1,
+                n,
+            );
+            let w = t.transpose() * (v.transpose() * &c);
+            c.gemm(-1.0, &v, &w, 1.0);
+        };
+        apply_left(b, k0 + nb..n);
+        // Columns of `a` left of ilo are zero in the active rows.
+        apply_left(a, ilo..n);
+        if !q.is_empty() {
+            // q <- q H = q - (q V) T V^T on columns k0..end.
+            let mut c = DMatrixViewMut::from_slice_with_strides_mut(&mut q[k0 * n..], n, m, 1, n);
+            let w = (&c * &v) * &t;
+            c.gemm(-1.0, &w, &v.transpose(), 1.0);
+        }
+        k0 += nb;
     }
 }
 
@@ -176,7 +280,9 @@ fn givens_hessenberg<E: Entry>(
             a[jcol * n + jrow] = E::zero();
             rotate_rows(a, n, jrow - 1, jcol + 1..n, g);
             rotate_rows(b, n, jrow - 1, jrow - 1..n, g);
-            rotate_columns(q, n, jrow - 1, jrow, 0..n, g.for_left_accumulation());
+            if !q.is_empty() {
+                rotate_columns(q, n, jrow - 1, jrow, 0..n, g.for_left_accumulation());
+            }
             // Column rotation on (jrow, jrow-1) kills the fill b[jrow, jrow-1].
             let (g, r) = Rotation::zeroing(b[jrow * n + jrow], b[(jrow - 1) * n + jrow]);
             b[jrow * n + jrow] = r;
@@ -271,7 +377,8 @@ mod tests {
 
     #[test]
     fn reduction_rebuilds_real_input() {
-        for n in [1, 2, 3, 6, 31] {
+        // 100 and 130 take the blocked QR (a partial last panel at 130).
+        for n in [1, 2, 3, 6, 31, 100, 130] {
             check(n, |x, _| x, |x: f64| C64::new(x, 0.0));
         }
     }

@@ -31,7 +31,7 @@ const EPS: f64 = f64::EPSILON;
 const SAFE_MIN: f64 = f64::MIN_POSITIVE;
 
 /// What the iteration does next at the current bottom `ilast` of the active block.
-enum Action {
+pub(crate) enum Action {
     /// `ilast` is a 1x1 block: record it and shrink the block.
     Deflate,
     /// `t(ilast, ilast)` is zero: clear `h(ilast, ilast-1)` by a column rotation, then deflate.
@@ -40,47 +40,175 @@ enum Action {
     Sweep(usize),
 }
 
-/// Working state: the four column-major n x n matrices and the fixed tolerances.
-struct Work<'a> {
-    h: &'a mut [C64],
-    t: &'a mut [C64],
-    q: &'a mut [C64],
-    z: &'a mut [C64],
-    n: usize,
-    atol: f64,
-    btol: f64,
+/// Working state: the four column-major n x n matrices (`q` may be empty: Q not accumulated)
+/// and the fixed tolerances. Generic over
+/// the scalar so that the real double-shift stage ([`super::real_iteration`]) shares the
+/// deflation logic with the complex iteration.
+pub(crate) struct Work<'a, E> {
+    pub(crate) h: &'a mut [E],
+    pub(crate) t: &'a mut [E],
+    pub(crate) q: &'a mut [E],
+    pub(crate) z: &'a mut [E],
+    pub(crate) n: usize,
+    pub(crate) atol: f64,
+    pub(crate) btol: f64,
     /// `max(SAFE_MIN, m EPS ||T||_F)` with m the active size: a deflated beta this small is set
     /// to exact zero.
     beta_zero_tol: f64,
-    ascale: f64,
-    bscale: f64,
+    pub(crate) ascale: f64,
+    pub(crate) bscale: f64,
 }
 
-impl Work<'_> {
+impl<'a, E: Entry> Work<'a, E> {
+    /// The working state for the active block `ilo..=ihi` (n > 0): tolerances from the Frobenius
+    /// norms of the active blocks of `h` and `t`.
+    pub(crate) fn new(
+        h: &'a mut [E],
+        t: &'a mut [E],
+        q: &'a mut [E],
+        z: &'a mut [E],
+        n: usize,
+        ilo: usize,
+        ihi: usize,
+    ) -> Self {
+        let block_norm = |m: &[E]| {
+            let cols: Vec<f64> = (ilo..=ihi)
+                .map(|j| frobenius(&m[j * n + ilo..j * n + ihi + 1]))
+                .collect();
+            frobenius(&cols)
+        };
+        let anorm = block_norm(h);
+        let bnorm = block_norm(t);
+        Work {
+            h,
+            t,
+            q,
+            z,
+            n,
+            atol: SAFE_MIN.max(EPS * anorm),
+            btol: SAFE_MIN.max(EPS * bnorm),
+            beta_zero_tol: SAFE_MIN.max((ihi - ilo + 1) as f64 * EPS * bnorm),
+            ascale: 1.0 / SAFE_MIN.max(anorm),
+            bscale: 1.0 / SAFE_MIN.max(bnorm),
+        }
+    }
+
     #[inline(always)]
-    fn h(&self, i: usize, j: usize) -> C64 {
+    pub(crate) fn h(&self, i: usize, j: usize) -> E {
         self.h[i + j * self.n]
     }
     #[inline(always)]
-    fn t(&self, i: usize, j: usize) -> C64 {
+    pub(crate) fn t(&self, i: usize, j: usize) -> E {
         self.t[i + j * self.n]
     }
     #[inline(always)]
-    fn set_h(&mut self, i: usize, j: usize, v: C64) {
+    pub(crate) fn set_h(&mut self, i: usize, j: usize, v: E) {
         self.h[i + j * self.n] = v;
     }
     #[inline(always)]
-    fn set_t(&mut self, i: usize, j: usize, v: C64) {
+    pub(crate) fn set_t(&mut self, i: usize, j: usize, v: E) {
         self.t[i + j * self.n] = v;
     }
 
     /// Element-wise negligibility of `h(j, j-1)` (j >= 1).
     #[inline]
-    fn subdiagonal_negligible(&self, j: usize) -> bool {
-        abs1(self.h(j, j - 1))
-            <= SAFE_MIN.max(EPS * (abs1(self.h(j, j)) + abs1(self.h(j - 1, j - 1))))
+    pub(crate) fn subdiagonal_negligible(&self, j: usize) -> bool {
+        self.h(j, j - 1).abs1()
+            <= SAFE_MIN.max(EPS * (self.h(j, j).abs1() + self.h(j - 1, j - 1).abs1()))
     }
 
+    /// Left rotation on rows (i, i+1) of H and T over columns `from..n`, accumulated into Q.
+    #[inline]
+    pub(crate) fn left(&mut self, i: usize, h_from: usize, t_from: usize, g: Rotation<E>) {
+        let n = self.n;
+        rotate_rows(self.h, n, i, h_from..n, g);
+        rotate_rows(self.t, n, i, t_from..n, g);
+        if !self.q.is_empty() {
+            rotate_columns(self.q, n, i, i + 1, 0..n, g.for_left_accumulation());
+        }
+    }
+
+    /// Right rotation on columns (keep, kill) of H (rows `..h_to`) and T (rows `..t_to`),
+    /// accumulated into Z.
+    #[inline]
+    pub(crate) fn right(
+        &mut self,
+        keep: usize,
+        kill: usize,
+        h_to: usize,
+        t_to: usize,
+        g: Rotation<E>,
+    ) {
+        let n = self.n;
+        rotate_columns(self.h, n, keep, kill, 0..h_to, g);
+        rotate_columns(self.t, n, keep, kill, 0..t_to, g);
+        rotate_columns(self.z, n, keep, kill, 0..n, g);
+    }
+
+    /// Looks for the top of the active block above `ilast`, handling a negligible `t(j, j)` by
+    /// chasing it down. Returns the next action.
+    pub(crate) fn locate(&mut self, ilo: usize, ilast: usize) -> Action {
+        for j in (ilo..ilast).rev() {
+            let ilazro = if j == ilo {
+                true
+            } else if self.subdiagonal_negligible(j) {
+                self.set_h(j, j - 1, E::zero());
+                true
+            } else {
+                false
+            };
+            if self.t(j, j).modulus() < self.btol {
+                self.set_t(j, j, E::zero());
+                // Two consecutive small subdiagonals: h(j,j-1) * h(j+1,j) negligible against
+                // h(j,j) allows the zero of T to be pushed down through rows only.
+                let mut ilazr2 = !ilazro
+                    && self.h(j, j - 1).abs1() * (self.ascale * self.h(j + 1, j).abs1())
+                        <= self.h(j, j).abs1() * (self.ascale * self.atol);
+                if ilazro || ilazr2 {
+                    for jch in j..ilast {
+                        let (g, r) = Rotation::zeroing(self.h(jch, jch), self.h(jch + 1, jch));
+                        self.set_h(jch, jch, r);
+                        self.set_h(jch + 1, jch, E::zero());
+                        self.left(jch, jch + 1, jch + 1, g);
+                        if ilazr2 {
+                            let v = self.h(jch, jch - 1).scale(g.c);
+                            self.set_h(jch, jch - 1, v);
+                        }
+                        ilazr2 = false;
+                        if self.t(jch + 1, jch + 1).abs1() >= self.btol {
+                            return if jch + 1 >= ilast {
+                                Action::Deflate
+                            } else {
+                                Action::Sweep(jch + 1)
+                            };
+                        }
+                        self.set_t(jch + 1, jch + 1, E::zero());
+                    }
+                    return Action::ZeroTAtLast;
+                }
+                // Chase the zero of T down to ilast with row rotations on T, each followed by a
+                // column rotation restoring H's Hessenberg form.
+                for jch in j..ilast {
+                    let (g, r) = Rotation::zeroing(self.t(jch, jch + 1), self.t(jch + 1, jch + 1));
+                    self.set_t(jch, jch + 1, r);
+                    self.set_t(jch + 1, jch + 1, E::zero());
+                    self.left(jch, jch - 1, jch + 2, g);
+                    let (g, r) = Rotation::zeroing(self.h(jch + 1, jch), self.h(jch + 1, jch - 1));
+                    self.set_h(jch + 1, jch, r);
+                    self.set_h(jch + 1, jch - 1, E::zero());
+                    self.right(jch, jch - 1, jch + 1, jch, g);
+                }
+                return Action::ZeroTAtLast;
+            } else if ilazro {
+                return Action::Sweep(j);
+            }
+        }
+        // Not reached: j == ilo always returns above.
+        Action::Sweep(ilo)
+    }
+}
+
+impl Work<'_, C64> {
     /// Makes `t(j, j)` real and non-negative by scaling column j of S, T and Z by a unimodular
     /// number (an exact-in-exact-arithmetic unitary equivalence).
     fn normalize_beta(&mut self, j: usize) {
@@ -102,87 +230,6 @@ impl Work<'_> {
         } else {
             self.t[j * n + j] = C64::new(0.0, 0.0);
         }
-    }
-
-    /// Left rotation on rows (i, i+1) of H and T over columns `from..n`, accumulated into Q.
-    #[inline]
-    fn left(&mut self, i: usize, h_from: usize, t_from: usize, g: Rotation<C64>) {
-        let n = self.n;
-        rotate_rows(self.h, n, i, h_from..n, g);
-        rotate_rows(self.t, n, i, t_from..n, g);
-        rotate_columns(self.q, n, i, i + 1, 0..n, g.for_left_accumulation());
-    }
-
-    /// Right rotation on columns (keep, kill) of H (rows `..h_to`) and T (rows `..t_to`),
-    /// accumulated into Z.
-    #[inline]
-    fn right(&mut self, keep: usize, kill: usize, h_to: usize, t_to: usize, g: Rotation<C64>) {
-        let n = self.n;
-        rotate_columns(self.h, n, keep, kill, 0..h_to, g);
-        rotate_columns(self.t, n, keep, kill, 0..t_to, g);
-        rotate_columns(self.z, n, keep, kill, 0..n, g);
-    }
-
-    /// Looks for the top of the active block above `ilast`, handling a negligible `t(j, j)` by
-    /// chasing it down. Returns the next action.
-    fn locate(&mut self, ilo: usize, ilast: usize) -> Action {
-        for j in (ilo..ilast).rev() {
-            let ilazro = if j == ilo {
-                true
-            } else if self.subdiagonal_negligible(j) {
-                self.set_h(j, j - 1, C64::new(0.0, 0.0));
-                true
-            } else {
-                false
-            };
-            if self.t(j, j).modulus() < self.btol {
-                self.set_t(j, j, C64::new(0.0, 0.0));
-                // Two consecutive small subdiagonals: h(j,j-1) * h(j+1,j) negligible against
-                // h(j,j) allows the zero of T to be pushed down through rows only.
-                let mut ilazr2 = !ilazro
-                    && abs1(self.h(j, j - 1)) * (self.ascale * abs1(self.h(j + 1, j)))
-                        <= abs1(self.h(j, j)) * (self.ascale * self.atol);
-                if ilazro || ilazr2 {
-                    for jch in j..ilast {
-                        let (g, r) = Rotation::zeroing(self.h(jch, jch), self.h(jch + 1, jch));
-                        self.set_h(jch, jch, r);
-                        self.set_h(jch + 1, jch, C64::new(0.0, 0.0));
-                        self.left(jch, jch + 1, jch + 1, g);
-                        if ilazr2 {
-                            let v = self.h(jch, jch - 1).scale(g.c);
-                            self.set_h(jch, jch - 1, v);
-                        }
-                        ilazr2 = false;
-                        if abs1(self.t(jch + 1, jch + 1)) >= self.btol {
-                            return if jch + 1 >= ilast {
-                                Action::Deflate
-                            } else {
-                                Action::Sweep(jch + 1)
-                            };
-                        }
-                        self.set_t(jch + 1, jch + 1, C64::new(0.0, 0.0));
-                    }
-                    return Action::ZeroTAtLast;
-                }
-                // Chase the zero of T down to ilast with row rotations on T, each followed by a
-                // column rotation restoring H's Hessenberg form.
-                for jch in j..ilast {
-                    let (g, r) = Rotation::zeroing(self.t(jch, jch + 1), self.t(jch + 1, jch + 1));
-                    self.set_t(jch, jch + 1, r);
-                    self.set_t(jch + 1, jch + 1, C64::new(0.0, 0.0));
-                    self.left(jch, jch - 1, jch + 2, g);
-                    let (g, r) = Rotation::zeroing(self.h(jch + 1, jch), self.h(jch + 1, jch - 1));
-                    self.set_h(jch + 1, jch, r);
-                    self.set_h(jch + 1, jch - 1, C64::new(0.0, 0.0));
-                    self.right(jch, jch - 1, jch + 1, jch, g);
-                }
-                return Action::ZeroTAtLast;
-            } else if ilazro {
-                return Action::Sweep(j);
-            }
-        }
-        // Not reached: j == ilo always returns above.
-        Action::Sweep(ilo)
     }
 
     /// Wilkinson-type shift: the eigenvalue of the trailing 2x2 block of `H T^{-1}` (scaled by
@@ -304,26 +351,7 @@ pub(crate) fn qz_iterate(
         return Ok(());
     }
     let (ilo, ihi) = (*active.start(), *active.end());
-    let block_norm = |m: &[C64]| {
-        let cols: Vec<f64> = (ilo..=ihi)
-            .map(|j| frobenius(&m[j * n + ilo..j * n + ihi + 1]))
-            .collect();
-        frobenius(&cols)
-    };
-    let anorm = block_norm(h);
-    let bnorm = block_norm(t);
-    let mut w = Work {
-        h,
-        t,
-        q,
-        z,
-        n,
-        atol: SAFE_MIN.max(EPS * anorm),
-        btol: SAFE_MIN.max(EPS * bnorm),
-        beta_zero_tol: SAFE_MIN.max((ihi - ilo + 1) as f64 * EPS * bnorm),
-        ascale: 1.0 / SAFE_MIN.max(anorm),
-        bscale: 1.0 / SAFE_MIN.max(bnorm),
-    };
+    let mut w = Work::new(h, t, q, z, n, ilo, ihi);
     // Eigenvalues isolated by the permutation: only make beta real non-negative.
     for j in (0..ilo).chain(ihi + 1..n) {
         w.normalize_beta(j);

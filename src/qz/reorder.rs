@@ -32,6 +32,7 @@ const SMALL: f64 = f64::MIN_POSITIVE / f64::EPSILON;
 pub(crate) struct Factors<'a> {
     pub s: &'a mut [C64],
     pub t: &'a mut [C64],
+    /// Empty when Q is not accumulated.
     pub q: &'a mut [C64],
     pub z: &'a mut [C64],
     pub n: usize,
@@ -158,7 +159,9 @@ impl Factors<'_> {
             self.t[j * n + j] = C64::new(0.0, 0.0);
         }
         rotate_columns(self.z, n, j, j + 1, 0..n, gz);
-        rotate_columns(self.q, n, j, j + 1, 0..n, gq.for_left_accumulation());
+        if !self.q.is_empty() {
+            rotate_columns(self.q, n, j, j + 1, 0..n, gq.for_left_accumulation());
+        }
         Ok(())
     }
 }

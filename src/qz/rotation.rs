@@ -40,8 +40,24 @@ pub(crate) trait Entry:
     fn unscale(self, r: f64) -> Self;
     /// Whether every component is finite.
     fn is_finite_entry(self) -> bool;
+    /// `|re| + |im|` (the absolute value for reals), the cheap modulus of deflation tests.
+    fn abs1(self) -> f64;
     /// The value as a complex number.
     fn to_c64(self) -> C64;
+    /// Householder QR stage of the Hessenberg-triangular reduction (see
+    /// [`super::hessenberg::householder_triangularize`]); real input overrides it with the
+    /// blocked version.
+    #[inline(always)]
+    fn triangularize(
+        a: &mut [Self],
+        b: &mut [Self],
+        q: &mut [Self],
+        n: usize,
+        ilo: usize,
+        ihi: usize,
+    ) {
+        super::hessenberg::householder_triangularize(a, b, q, n, ilo, ihi);
+    }
     /// Kernel behind [`rotate_pair`]; complex overrides it with a SIMD version.
     #[inline(always)]
     fn rot_pair(x: &mut [Self], y: &mut [Self], g: Rotation<Self>) {
@@ -94,6 +110,21 @@ impl Entry for f64 {
         self.is_finite()
     }
     #[inline(always)]
+    fn abs1(self) -> f64 {
+        self.abs()
+    }
+    #[inline(always)]
+    fn triangularize(
+        a: &mut [f64],
+        b: &mut [f64],
+        q: &mut [f64],
+        n: usize,
+        ilo: usize,
+        ihi: usize,
+    ) {
+        super::hessenberg::householder_triangularize_blocked(a, b, q, n, ilo, ihi);
+    }
+    #[inline(always)]
     fn to_c64(self) -> C64 {
         C64::new(self, 0.0)
     }
@@ -138,6 +169,10 @@ impl Entry for C64 {
     #[inline(always)]
     fn is_finite_entry(self) -> bool {
         self.re.is_finite() && self.im.is_finite()
+    }
+    #[inline(always)]
+    fn abs1(self) -> f64 {
+        abs1(self)
     }
     #[inline(always)]
     fn to_c64(self) -> C64 {

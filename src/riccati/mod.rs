@@ -65,7 +65,9 @@ pub struct DareParams {
     pub max_residual: f64,
     /// Compute the closed-loop eigenvalues of `A - BF` and check them. Default true.
     pub check_closed_loop: bool,
-    /// Parameters of the QZ. Default [`QzParams::default`].
+    /// Parameters of the QZ. Default [`QzParams::default`] with real double-shift sweeps on
+    /// (the extended pencil of a Riccati equation with a stabilising solution is regular) and
+    /// without accumulating Q (only Z is used).
     pub qz: QzParams,
 }
 
@@ -77,7 +79,11 @@ impl Default for DareParams {
             rank_tol: 1e-10,
             max_residual: 1e-8,
             check_closed_loop: true,
-            qz: QzParams::default(),
+            qz: QzParams {
+                real_double_shift: true,
+                accumulate_q: false,
+                ..QzParams::default()
+            },
         }
     }
 }
@@ -373,19 +379,33 @@ pub fn solve_dare(
     let z = schur.z();
     let u1 = z.view((0, 0), (n, n)).into_owned();
     let u2 = z.view((n, 0), (n, n)).into_owned();
-    let sv = u1.clone().singular_values();
-    let sigma_min = sv.iter().cloned().fold(f64::INFINITY, f64::min);
-    if !(sigma_min > params.rank_tol) {
-        return Err(DareError::NotStabilisable { sigma_min });
-    }
     // X~ U1 = U2  <=>  U1^T X~^T = U2^T.
-    let xt_t = u1
+    let solved = u1
         .transpose()
         .lu()
         .solve(&u2.transpose())
-        .ok_or(DareError::NotStabilisable { sigma_min })?;
-    let xc = xt_t.transpose();
-    let xnorm = xc.iter().map(|v| v.norm_sqr()).sum::<f64>().sqrt();
+        .map(|m| m.transpose());
+    // Rank test of U1 without a singular value decomposition in the common case: [U1; U2] has
+    // orthonormal columns, so U1^{-H} U1^{-1} = I + X~^H X~ and
+    // sigma_min(U1) = 1 / sqrt(1 + ||X~||_2^2) >= 1 / sqrt(1 + ||X~||_F^2). When that lower
+    // bound clears rank_tol the test passes; otherwise (or when the solve failed) the singular
+    // values of U1 decide, as before.
+    let xnorm = solved
+        .as_ref()
+        .map(|xc| xc.iter().map(|v| v.norm_sqr()).sum::<f64>().sqrt())
+        .unwrap_or(f64::INFINITY);
+    let sigma_lower = 1.0 / (1.0 + xnorm * xnorm).sqrt();
+    let xc = match solved {
+        Some(xc) if xnorm.is_finite() && sigma_lower > params.rank_tol => xc,
+        other => {
+            let sv = u1.clone().singular_values();
+            let sigma_min = sv.iter().cloned().fold(f64::INFINITY, f64::min);
+            match other {
+                Some(xc) if sigma_min > params.rank_tol && xnorm.is_finite() => xc,
+                _ => return Err(DareError::NotStabilisable { sigma_min }),
+            }
+        }
+    };
     let inorm = xc.iter().map(|v| v.im * v.im).sum::<f64>().sqrt();
     let imaginary = if xnorm > 0.0 { inorm / xnorm } else { 0.0 };
     // Undo the balancing: X = D^{-1} X~ D^{-1} / 2^c, symmetrised.

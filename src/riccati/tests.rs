@@ -334,3 +334,41 @@ fn benner_laub_mehrmann_example_1_has_the_golden_ratio_closed_form() {
     let err = (&sol.x - &want).abs().max() / want.abs().max();
     assert!(err < 1e-12, "relative difference {err:e}\n{}", sol.x);
 }
+
+/// The graph test on U1 without a singular value decomposition: Z's leading columns [U1; U2] are
+/// orthonormal, so sigma_min(U1) = 1/sqrt(1 + ||X||_2^2) (without balancing, X~ = X). A rank
+/// tolerance just below that value passes (the Frobenius bound does not clear it, so the
+/// singular values decide); just above it fails with NotStabilisable reporting that sigma to
+/// 1e-8 relative (the identity holds to rounding; X is well conditioned here).
+#[test]
+fn graph_test_agrees_with_the_norm_of_x() {
+    let mut g = Lcg(31);
+    let (n, m) = (6, 2);
+    let a = g.matrix(n, n, 1.2 / (n as f64).sqrt());
+    let b = g.matrix(n, m, 1.0);
+    let c = g.matrix(n, n, 1.0);
+    let q = c.transpose() * &c + DMatrix::identity(n, n) * 0.01;
+    let r = DMatrix::identity(m, m);
+    let base = DareParams {
+        balance: false,
+        ..DareParams::default()
+    };
+    let sol = solve_dare(&a, &b, &q, &r, None, 0.95, &base).unwrap();
+    let x2 = sol.x.clone().singular_values().max();
+    let sigma = 1.0 / (1.0 + x2 * x2).sqrt();
+    let at = |tol: f64| DareParams {
+        rank_tol: tol,
+        ..base.clone()
+    };
+    let ok = solve_dare(&a, &b, &q, &r, None, 0.95, &at(sigma * (1.0 - 1e-6))).unwrap();
+    assert!((&ok.x - &sol.x).norm() <= 1e-12 * sol.x.norm());
+    match solve_dare(&a, &b, &q, &r, None, 0.95, &at(sigma * (1.0 + 1e-6))) {
+        Err(DareError::NotStabilisable { sigma_min }) => {
+            assert!(
+                (sigma_min - sigma).abs() <= 1e-8 * sigma,
+                "{sigma_min} vs {sigma}"
+            )
+        }
+        other => panic!("expected NotStabilisable, got {other:?}"),
+    }
+}
