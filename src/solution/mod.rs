@@ -108,7 +108,7 @@ pub mod threshold;
 pub use diagnosis::describe_root;
 pub use solve::{
     solve, NumericalFailure, PreparedModel, SolveDetails, SolveError, SolveOptions,
-    ThresholdSetting, Timings,
+    ThresholdSetting, Timings, MAX_PENCIL_DIM,
 };
 
 #[cfg(test)]

@@ -313,6 +313,17 @@ impl PreparedModel {
         }
         let tau = threshold(model, options.threshold)?;
 
+        // The size limit is known from the layout alone: check it before the steady state, whose
+        // Newton iteration on a model past the limit would take tens of seconds first.
+        let smallest = self.layout.states.len() + self.layout.forward.len();
+        if smallest > MAX_PENCIL_DIM {
+            return Err(SolveError::TooLarge {
+                what: "the dimension of the canonical form",
+                size: smallest,
+                limit: MAX_PENCIL_DIM,
+            });
+        }
+
         let t0 = Instant::now();
         let steady = solve_steady(model, &self.compiled, &params)?;
         timings.steady_state = t0.elapsed();
@@ -322,14 +333,6 @@ impl PreparedModel {
         timings.linearization = t0.elapsed();
 
         let t0 = Instant::now();
-        let smallest = self.layout.states.len() + self.layout.forward.len();
-        if smallest > MAX_PENCIL_DIM {
-            return Err(SolveError::TooLarge {
-                what: "the dimension of the canonical form",
-                size: smallest,
-                limit: MAX_PENCIL_DIM,
-            });
-        }
         // Everything from the canonical form on works in balanced units (see
         // `linear::balance`), so that no result depends on the units of equations or variables;
         // the solution is brought back to the model's units before it is checked and reported.

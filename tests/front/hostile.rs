@@ -248,3 +248,31 @@ fn too_many_innovations_are_refused_before_building_their_matrix() {
     assert_eq!(d.len(), 1);
     assert_eq!(d[0].code, "too-many-innovations");
 }
+
+#[test]
+fn a_model_past_the_size_limit_is_refused_before_its_steady_state() {
+    // 2,100 forward-looking variables coupled in a ring, with steady values to find by Newton
+    // (a dense 2,100 x 2,100 Jacobian per iteration): the layout alone is past the limit of the
+    // canonical form, so the refusal must come before any Newton step.
+    let n = saddle::solution::MAX_PENCIL_DIM + 100;
+    let mut src = String::from("endogenous\n");
+    for i in 0..n {
+        src.push_str(&format!("  x{i}\n"));
+    }
+    src.push_str("equations\n");
+    for i in 0..n {
+        src.push_str(&format!(
+            "  x{i} = 0.5 * x{i}[t+1] + 0.1 * x{} + exp(x{i}) - 2\n",
+            (i + 1) % n
+        ));
+    }
+    let model = check_source(&src).expect("the model checks");
+    let started = Instant::now();
+    let err = saddle::solution::solve(&model, &saddle::solution::SolveOptions::default())
+        .expect_err("past the size limit");
+    assert!(started.elapsed() < QUICK, "took {:?}", started.elapsed());
+    assert!(
+        matches!(err, saddle::solution::SolveError::TooLarge { size, .. } if size == n),
+        "{err}"
+    );
+}
