@@ -210,26 +210,9 @@ impl<'a, E: Entry> Work<'a, E> {
 
 impl Work<'_, C64> {
     /// Makes `t(j, j)` real and non-negative by scaling column j of S, T and Z by a unimodular
-    /// number (an exact-in-exact-arithmetic unitary equivalence).
+    /// number (the one definition, [`super::reorder::normalize_beta`]).
     fn normalize_beta(&mut self, j: usize) {
-        let n = self.n;
-        let tjj = self.t(j, j);
-        let absb = tjj.modulus();
-        if absb > SAFE_MIN {
-            let sign = tjj.conj().unscale(absb);
-            for x in &mut self.t[j * n..j * n + j] {
-                *x *= sign;
-            }
-            self.t[j * n + j] = C64::new(absb, 0.0);
-            for x in &mut self.h[j * n..j * n + j + 1] {
-                *x *= sign;
-            }
-            for x in &mut self.z[j * n..(j + 1) * n] {
-                *x *= sign;
-            }
-        } else {
-            self.t[j * n + j] = C64::new(0.0, 0.0);
-        }
+        super::reorder::normalize_beta(self.h, self.t, self.z, self.n, j);
     }
 
     /// Wilkinson-type shift: the eigenvalue of the trailing 2x2 block of `H T^{-1}` (scaled by

@@ -50,8 +50,7 @@ fn undo_2x2(m: &mut [C64; 4], gz: Rotation<C64>, gq: Rotation<C64>) {
 /// triangular S (rows 0..=j), T (rows 0..=j) and of Z (all rows), all n x n column-major: an
 /// exact-in-exact-arithmetic unitary equivalence. A `T[j, j]` of modulus at most the smallest
 /// normal number becomes an exact zero (an infinite eigenvalue); one already real and
-/// non-negative is left alone. The one definition for the reordering (and, once `iteration.rs`
-/// calls it, for the QZ iteration, whose `Work::normalize_beta` is the same scaling).
+/// non-negative is left alone. The one definition, for the reordering and the QZ iteration.
 pub(crate) fn normalize_beta(s: &mut [C64], t: &mut [C64], z: &mut [C64], n: usize, j: usize) {
     let tjj = t[j * n + j];
     let absb = tjj.modulus();
